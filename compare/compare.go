@@ -1,0 +1,106 @@
+package compare
+
+import (
+	"fmt"
+	"math"
+)
+
+// Verdict is the outcome of comparing the two paths.
+type Verdict int
+
+const (
+	// Agree: the values differ by at most AgreeWithin combined errors.
+	Agree Verdict = iota
+	// Inconclusive: between AgreeWithin and DisagreeBeyond combined
+	// errors, or an error bar is missing (infinite or NaN).
+	Inconclusive
+	// Disagree: the values differ by more than DisagreeBeyond combined
+	// errors.
+	Disagree
+)
+
+// AgreeWithin and DisagreeBeyond are the thresholds of Compare on the
+// discrepancy |a − b| / sqrt(e_a² + e_b²). With error bars meant to contain
+// the truth, 2 leaves room for bars that are somewhat too small; beyond 5 the
+// bars would have to be wrong by a factor the calibration does not show
+// (common practice, no source).
+const (
+	AgreeWithin    = 2.0
+	DisagreeBeyond = 5.0
+)
+
+var verdictNames = [...]string{Agree: "agree", Inconclusive: "inconclusive", Disagree: "disagree"}
+
+func (v Verdict) String() string {
+	if v < 0 || int(v) >= len(verdictNames) {
+		return fmt.Sprintf("Verdict(%d)", int(v))
+	}
+	return verdictNames[v]
+}
+
+// Comparison is the result of Compare.
+type Comparison struct {
+	Verdict Verdict
+	// Discrepancy is |a − b| / sqrt(e_a² + e_b²): the distance between the
+	// two values in units of their combined error, the errors being added
+	// in quadrature as for independent errors (the two paths share nothing
+	// but the system). It is 0 when the values are equal, +Inf when they
+	// differ and both errors are zero, NaN when a value or an error is NaN
+	// or an error is infinite.
+	Discrepancy float64
+	// Reasons says in words why the verdict is not Agree, and notes every
+	// path whose status is a stagnation (Status.Stagnated), whatever the
+	// verdict.
+	Reasons []string
+}
+
+// Compare compares the estimates of the same quantity by the two paths: they
+// agree when |a − b| ≤ 2 e, disagree when |a − b| > 5 e, and the comparison
+// is inconclusive in between, where e = sqrt(e_a² + e_b²) is the combined
+// error.
+func Compare(ulam, cycles Estimate) Comparison {
+	var c Comparison
+	for _, p := range []struct {
+		name string
+		est  Estimate
+	}{{"ulam", ulam}, {"cycles", cycles}} {
+		if p.est.Status.Stagnated() {
+			c.Reasons = append(c.Reasons, fmt.Sprintf("%s path stopped with status %q: %s", p.name, p.est.Status, p.est.Reason))
+		}
+	}
+	diff := math.Abs(ulam.Value - cycles.Value)
+	combined := math.Hypot(ulam.Error, cycles.Error)
+	switch {
+	case math.IsNaN(diff) || math.IsNaN(combined) || math.IsInf(combined, 0):
+		c.Discrepancy = math.NaN()
+		c.Verdict = Inconclusive
+		c.Reasons = append(c.Reasons, fmt.Sprintf("no comparison possible: ulam %v ± %v, cycles %v ± %v",
+			ulam.Value, ulam.Error, cycles.Value, cycles.Error))
+		return c
+	case diff == 0:
+		c.Discrepancy = 0
+	default:
+		c.Discrepancy = diff / combined // +Inf when combined == 0
+	}
+	switch {
+	case c.Discrepancy <= AgreeWithin:
+		c.Verdict = Agree
+	case c.Discrepancy <= DisagreeBeyond:
+		c.Verdict = Inconclusive
+		c.Reasons = append(c.Reasons, fmt.Sprintf("the values differ by %.3g, %.3g times the combined error %.3g: more than %g, not more than %g",
+			diff, c.Discrepancy, combined, AgreeWithin, DisagreeBeyond))
+	default:
+		c.Verdict = Disagree
+		c.Reasons = append(c.Reasons, fmt.Sprintf("the values differ by %.3g, %.3g times the combined error %.3g (more than %g)",
+			diff, c.Discrepancy, combined, DisagreeBeyond))
+	}
+	if c.Verdict != Agree {
+		larger, name := ulam.Error, "ulam"
+		if cycles.Error > larger {
+			larger, name = cycles.Error, "cycles"
+		}
+		c.Reasons = append(c.Reasons, fmt.Sprintf("the larger error bar is the %s path's (%.3g); ulam %s (%s), cycles %s (%s)",
+			name, larger, FormatUncertainty(ulam.Value, ulam.Error), ulam.Status, FormatUncertainty(cycles.Value, cycles.Error), cycles.Status))
+	}
+	return c
+}

@@ -1,0 +1,269 @@
+package compare
+
+import (
+	"fmt"
+	"math"
+)
+
+// Cycles analyses a sequence of cycle-expansion estimates values[i]
+// truncated at cycle length orders[i] (orders strictly increasing,
+// typically 1, 2, …, n). It measures the decay of the successive
+// differences, predicts the tail of the differences still to come, and
+// detects the round-off floor, plateaus and oscillations; see the package
+// documentation for the model. Cycles panics if the lengths differ or orders
+// is not positive and strictly increasing. Non-finite values are dropped and
+// the drop is reported in Reason.
+func Cycles(orders []int, values []float64, s *Settings) Estimate {
+	checkShape("Cycles", "orders", orders, values)
+	set := s.withDefaults()
+	orders, values, note := dropNonFinite(orders, values)
+	est := cycles(orders, values, set)
+	est.Reason = note + est.Reason
+	return est
+}
+
+func cycles(orders []int, values []float64, set Settings) Estimate {
+	n := len(values)
+	if n == 0 {
+		return Estimate{Value: math.NaN(), Error: math.Inf(1), Last: math.NaN(), Order: math.NaN(),
+			Status: TooFewPoints, Reason: "cycles: no estimates"}
+	}
+	last := values[n-1]
+	scale := maxAbs(values)
+	if n == 1 {
+		return Estimate{Value: last, Error: math.Inf(1), Last: last, Order: math.NaN(),
+			Status: TooFewPoints, Reason: "cycles: a single estimate has no error bar", Used: orders[0]}
+	}
+	d := differences(values)
+	if start := roundOffFloor(d, set.RoundOff*scale); start >= 0 {
+		return floorEstimate(orders, values, start, set, scale, "cycles")
+	}
+	minErr := minError(scale)
+	if n < set.MinPoints {
+		return Estimate{Value: last, Error: math.Max(set.SpreadFactor*spread(values, last), minErr), Last: last,
+			Order: math.NaN(), Status: TooFewPoints, Used: orders[n-1],
+			Reason: fmt.Sprintf("cycles: %d estimates, at least %d needed to judge the convergence; error from their spread", n, set.MinPoints)}
+	}
+
+	if est, stalled := stall(orders, values, d, set); stalled {
+		est.Error = math.Max(est.Error, minErr)
+		return est
+	}
+
+	// Fit the trend of ln|d| over the last differences, back-test the fit
+	// on the two windows before, and sum the predicted future differences.
+	step := float64(orders[n-1] - orders[n-2])
+	spreadErr := math.Max(set.SpreadFactor*spread(tail(values, set.SpreadPoints), last), minErr)
+	irregular := func(order float64, why string) Estimate {
+		return Estimate{Value: last, Error: spreadErr, Last: last, Order: order, Status: Irregular,
+			Used: orders[n-1], Reason: "cycles: " + why + "; value is the last estimate, error from the spread of the last estimates"}
+	}
+	for _, di := range tail(d, set.FitPoints) {
+		if di == 0 {
+			return irregular(math.NaN(), "a difference in the fitted window is exactly zero")
+		}
+	}
+	if largest := maxAbs(d); !(math.Abs(d[len(d)-1]) <= 0.1*largest) {
+		return Estimate{Value: last, Error: spreadErr, Last: last, Order: math.NaN(), Status: NotConverging,
+			Used: orders[n-1],
+			Reason: fmt.Sprintf("cycles: the last difference %.2g is not a decade below the largest %.2g: the expansion has not settled into its asymptotic decay; value is the last estimate, error from the spread of the last estimates",
+				math.Abs(d[len(d)-1]), largest)}
+	}
+	trend := fitDecay(tail(d, set.FitPoints))
+	order := trend.rate / step
+	if !(trend.rate > 0) {
+		return irregular(order, "the differences do not decrease on average over the last steps")
+	}
+	miss := 0.0
+	for back := 1; back <= 2; back++ {
+		if len(d)-back < 2 {
+			break
+		}
+		earlier := fitDecay(tail(d[:len(d)-back], set.FitPoints))
+		miss = math.Max(miss, math.Abs(earlier.predict(1)-math.Log(math.Abs(d[len(d)-back]))))
+	}
+
+	// Signs: the ratio d[i+1]/d[i] keeps its sign over the last two steps
+	// (monotone or alternating convergence), or the sign is unpredictable.
+	L := len(d) - 1
+	sign1 := math.Copysign(1, d[L]*d[L-1])
+	sign2 := math.Copysign(1, d[L-1]*d[L-2])
+	first := math.Copysign(1, d[L]) * sign1
+	predicted, ok1 := trend.tail(first, sign1, 0)
+	slower, ok2 := trend.tail(first, sign1, miss)
+	if !ok1 || !ok2 {
+		return irregular(order, fmt.Sprintf("decay rate %.3g per step too unsteady to predict the tail (back-test miss %.3g in ln|d|)", trend.rate, miss))
+	}
+	tailErr := math.Abs(slower - predicted)
+	if sign1 != sign2 {
+		bound, _ := trend.tail(1, 1, miss)
+		return Estimate{Value: last, Error: math.Max(set.TailFactor*bound, spreadErr), Last: last, Order: order,
+			Status: Irregular, Used: orders[n-1],
+			Reason: fmt.Sprintf("cycles: differences decay (rate %.3g per step) but their signs are irregular; value is the last estimate, error the larger of %g times the predicted size of the tail and the spread of the last estimates",
+				trend.rate, set.TailFactor)}
+	}
+	return Estimate{Value: last + predicted, Error: math.Max(set.TailFactor*tailErr, minErr), Last: last, Order: order,
+		Status: Converged, Used: orders[n-1],
+		Reason: fmt.Sprintf("cycles: differences decay at rate %.3g per step (rate growing by %.3g per step); tail of the future differences added, error from the back-tested miss %.3g in ln|d|",
+			trend.rate, trend.growth, miss)}
+}
+
+// decayTrend is a least-squares fit ln|d_k| ≈ c0 + c1 k + c2 k² of the
+// magnitudes of the last m differences, k = 0…m−1, with c2 ≤ 0: a concave
+// trend (c2 < 0) is super-geometric convergence, as for exp(−a n²), a
+// linear one geometric convergence.
+type decayTrend struct {
+	c0, c1, c2 float64
+	m          int
+	// rate = −(c1 + 2 c2 (m−1)) is the decay rate per step at the last
+	// difference; growth = −2 c2 its increase per step.
+	rate, growth float64
+}
+
+// fitDecay fits the trend to the magnitudes of d (at least two, none zero).
+// It fits a parabola when there are at least four differences and keeps it
+// when it is concave; otherwise it fits a line to the last three.
+func fitDecay(d []float64) decayTrend {
+	y := make([]float64, len(d))
+	for i, di := range d {
+		y[i] = math.Log(math.Abs(di))
+	}
+	var t decayTrend
+	if len(y) >= 4 {
+		t.c0, t.c1, t.c2 = fitPoly(y, 2)
+	}
+	if len(y) < 4 || t.c2 > 0 {
+		start := max(0, len(y)-3)
+		c0, c1, _ := fitPoly(y[start:], 1)
+		// Shift the line so that k counts from the start of d.
+		t.c0, t.c1, t.c2 = c0-c1*float64(start), c1, 0
+	}
+	t.m = len(y)
+	t.rate = -(t.c1 + 2*t.c2*float64(t.m-1))
+	t.growth = -2 * t.c2
+	return t
+}
+
+// predict returns the fitted ln|d| k steps after the last fitted difference.
+func (t decayTrend) predict(k int) float64 {
+	x := float64(t.m - 1 + k)
+	return t.c0 + t.c1*x + t.c2*x*x
+}
+
+// tail sums the predicted future differences Σ_{k≥1} first·sign^(k−1)·
+// exp(predict(k) + k·slack): the fitted magnitudes, made to decay more slowly
+// by slack per step, with the sign of the first one and the sign pattern of
+// the last ratio. It reports false when the slowed series does not
+// converge.
+func (t decayTrend) tail(first, sign, slack float64) (float64, bool) {
+	if t.growth == 0 {
+		// Geometric series: ratio exp(−rate + slack).
+		q := math.Exp(-t.rate + slack)
+		if !(q < 1) {
+			return 0, false
+		}
+		a := first * math.Exp(t.predict(1)+slack)
+		return a / (1 - sign*q), true
+	}
+	sum := 0.0
+	s := first
+	for k := 1; k <= 100000; k++ {
+		term := s * math.Exp(t.predict(k)+float64(k)*slack)
+		if sum+term == sum {
+			return sum, true
+		}
+		sum += term
+		s *= sign
+	}
+	return sum, false
+}
+
+// fitPoly returns the least-squares coefficients c0, c1, c2 of a polynomial
+// of the given degree (1 or 2; c2 = 0 for degree 1) through the points
+// (k, y[k]), k = 0…len(y)−1, from the normal equations in the centred
+// variable k − mean(k), which keeps them well conditioned for the handful of
+// points used here.
+func fitPoly(y []float64, degree int) (c0, c1, c2 float64) {
+	m := len(y)
+	mid := 0.5 * float64(m-1)
+	// Sums of powers of u = k − mid, and of y·u^j.
+	var s [5]float64
+	var r [3]float64
+	for k, yk := range y {
+		u := float64(k) - mid
+		p := 1.0
+		for j := 0; j <= 4; j++ {
+			s[j] += p
+			if j <= 2 {
+				r[j] += yk * p
+			}
+			p *= u
+		}
+	}
+	var b0, b1, b2 float64
+	if degree == 1 || m < 3 {
+		b1 = r[1] / s[2]
+		b0 = r[0] / s[0]
+	} else {
+		// Odd sums vanish for the symmetric u: s1 = s3 = 0.
+		b1 = r[1] / s[2]
+		det := s[0]*s[4] - s[2]*s[2]
+		b0 = (r[0]*s[4] - r[2]*s[2]) / det
+		b2 = (s[0]*r[2] - s[2]*r[0]) / det
+	}
+	// Back from u = k − mid to k.
+	c0 = b0 - b1*mid + b2*mid*mid
+	c1 = b1 - 2*b2*mid
+	c2 = b2
+	return c0, c1, c2
+}
+
+// stall reports whether the last set.StallWindow differences do not
+// decrease, and if so returns the Oscillating estimate (their signs
+// alternate), the Plateau estimate (the earlier differences were more than
+// ten times larger: the sequence had converged, then stopped) or the
+// NotConverging estimate.
+func stall(orders []int, values, d []float64, set Settings) (Estimate, bool) {
+	w := min(set.StallWindow, len(d))
+	if w < 2 {
+		return Estimate{}, false
+	}
+	win := tail(d, w)
+	half := w / 2
+	first, second := maxAbs(win[:half]), maxAbs(win[half:])
+	perStep := math.Pow(second/first, 1/(0.5*float64(w)))
+	if !(perStep >= set.StallRatio) {
+		return Estimate{}, false
+	}
+	n := len(values)
+	last := values[n-1]
+	level := maxAbs(win)
+	recent := tail(values, w+1)
+	order := -math.Log(perStep) / float64(orders[n-1]-orders[n-2])
+	alternating := true
+	for i := 1; i < len(win); i++ {
+		if win[i]*win[i-1] >= 0 {
+			alternating = false
+		}
+	}
+	if alternating {
+		lo, hi := recent[0], recent[0]
+		for _, v := range recent {
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		}
+		return Estimate{Value: 0.5 * (values[n-1] + values[n-2]), Error: set.SpreadFactor * 0.5 * (hi - lo), Last: last,
+			Order: order, Status: Oscillating, Used: orders[n-1],
+			Reason: fmt.Sprintf("cycles: the last %d differences alternate in sign without decaying (about %.2g per step, level %.2g): marginal cycles or pruning; value is the midpoint of the last two estimates",
+				w, perStep, level)}, true
+	}
+	err := math.Max(set.SpreadFactor*spread(recent, last), level)
+	if before := d[:len(d)-w]; !(maxAbs(before) > 10*level) {
+		return Estimate{Value: last, Error: err, Last: last, Order: order, Status: NotConverging, Used: orders[n-1],
+			Reason: fmt.Sprintf("cycles: the last %d differences (about %.2g) are not smaller than the earlier ones by a decade: the expansion has not started to converge; value is the last estimate, error from the recent spread",
+				w, level)}, true
+	}
+	return Estimate{Value: last, Error: err, Last: last,
+		Order: order, Status: Plateau, Used: orders[n-1],
+		Reason: fmt.Sprintf("cycles: the last %d differences stopped decreasing at about %.2g (per step ×%.2g), far above round-off: missing cycles?; value is the last estimate, error not below the plateau level",
+			w, level, perStep)}, true
+}

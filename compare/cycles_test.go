@@ -1,0 +1,176 @@
+package compare
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+)
+
+// Synthetic cycle-expansion sequences with known limits (closed form):
+// super-exponential L + C exp(−a n²) as for smooth hyperbolic maps, and
+// geometric L + C q^n as for dynamical zeta functions with a next pole.
+func TestCyclesSmoothSequences(t *testing.T) {
+	const limit = 0.8314023
+	orders := lengths(12)
+	for _, tc := range []struct {
+		name string
+		f    func(n float64) float64
+		// Expected decay rate at the last difference and its tolerance:
+		// exact for geometric sequences (the line fit reproduces ln(1/|q|) up
+		// to round-off in ln|d|, ε/|d| ≤ 1e-9 here); for exp(−a n²) the
+		// rate of the exact differences at n = 11 is ≈ a(2·11 + 1) up to the
+		// correction ln((1 − e^{−23a})/(1 − e^{−25a})) and the fit's
+		// curvature error, a few percent.
+		rate, rateTol float64
+	}{
+		{"exp(-0.1n^2)", func(n float64) float64 { return limit + 0.5*math.Exp(-0.1*n*n) }, 0.1 * 23, 0.06},
+		{"exp(-0.2n^2)", func(n float64) float64 { return limit + 0.5*math.Exp(-0.2*n*n) }, 0.2 * 23, 0.06},
+		{"-exp(-0.05n^2)", func(n float64) float64 { return limit - 0.5*math.Exp(-0.05*n*n) }, 0.05 * 23, 0.1},
+		{"0.5^n", func(n float64) float64 { return limit + 0.5*math.Pow(0.5, n) }, math.Log(2), 1e-6},
+		{"(-0.3)^n", func(n float64) float64 { return limit + 0.5*math.Pow(-0.3, n) }, math.Log(1 / 0.3), 1e-6},
+		{"0.1^n", func(n float64) float64 { return limit - 2*math.Pow(0.1, n) }, math.Log(10), 1e-6},
+	} {
+		e := Cycles(orders, sample(orders, tc.f), nil)
+		if e.Status != Converged {
+			t.Errorf("%s: status %v (%s), want converged", tc.name, e.Status, e.Reason)
+		}
+		contains, tight := checkBar(e, limit)
+		if !contains || !tight {
+			t.Errorf("%s: value %.17g ± %.3g, true error %.3g: contains %v, within 100×: %v (%s)",
+				tc.name, e.Value, e.Error, math.Abs(e.Value-limit), contains, tight, e.Reason)
+		}
+		if !scalar.EqualWithinAbsOrRel(e.Order, tc.rate, tc.rateTol, tc.rateTol) {
+			t.Errorf("%s: rate %.6g, want %.6g", tc.name, e.Order, tc.rate)
+		}
+	}
+}
+
+// Coverage of the Converged cycle estimates over broad synthetic families.
+// Design target 95%: the tail model is a two-parameter extrapolation of a
+// handful of differences, and the pre-asymptotic and beating sequences of
+// the family are built to strain it. The table prints the calibration of
+// TailFactor (package documentation).
+func TestCyclesCoverage(t *testing.T) {
+	seeds := uint64(300)
+	if testing.Short() {
+		seeds = 60
+	}
+	run := func(set *Settings, kind int) (converged Coverage, statuses map[Status]int) {
+		statuses = map[Status]int{}
+		var cases []Case
+		for _, nmax := range []int{8, 10, 12, 14} {
+			for seed := range seeds {
+				orders, values, limit := syntheticCycles(kind, seed, nmax)
+				e := Cycles(orders, values, set)
+				statuses[e.Status]++
+				if e.Status == Converged {
+					cases = append(cases, Case{Truth: limit, Estimate: e})
+				}
+			}
+		}
+		return Calibrate(cases), statuses
+	}
+	names := [...]string{"exp(-an²+bn)", "two geometric", "wobbly exp(-an²)"}
+	var table strings.Builder
+	fmt.Fprintf(&table, "cycle coverage (converged estimates), %d sequences per family\n  factor  family            converged  covered  median bar/true  >100×\n", 4*seeds)
+	for _, f := range []float64{1, 2, 3, 5} {
+		for kind := range cycleKinds {
+			c, _ := run(&Settings{TailFactor: f}, kind)
+			fmt.Fprintf(&table, "  %6.0f  %-16s  %9d  %7.4f  %15.3g  %5.3f\n", f, names[kind], c.Cases, c.Fraction(), c.MedianRatio, float64(c.Overstated)/float64(c.Cases))
+		}
+	}
+	t.Log(table.String())
+	for kind := range cycleKinds {
+		c, statuses := run(nil, kind)
+		t.Logf("defaults, %s: statuses %v", names[kind], statuses)
+		if c.Fraction() < 0.95 || c.MedianRatio > MaxOverstatement {
+			t.Errorf("%s: covered %.4f (want ≥ 0.95), median bar/true %.3g", names[kind], c.Fraction(), c.MedianRatio)
+		}
+	}
+}
+
+// Round-off floor: super-exponential convergence with noise of 1e-15. With
+// a = 0.5 the truncation error 0.5 exp(−a n²) is 1.1e-11 at n = 7 (above the
+// floor RoundOff·|v| ≈ 8e-14) and 6e-15 at n = 8, so the floor starts at
+// n = 8. The error is SpreadFactor × the range on the floor: at most
+// 2 × (6e-15 + 2e-15).
+func TestCyclesRoundOffFloor(t *testing.T) {
+	const limit = 0.8314023
+	rng := rand.New(rand.NewPCG(7, 7))
+	orders := lengths(14)
+	values := sample(orders, func(n float64) float64 {
+		return limit + 0.5*math.Exp(-0.5*n*n) + 1e-15*(2*rng.Float64()-1)
+	})
+	e := Cycles(orders, values, nil)
+	if e.Status != RoundOffFloor || e.Used != 8 {
+		t.Fatalf("status %v used %d (%s), want round-off floor from 8", e.Status, e.Used, e.Reason)
+	}
+	bound := 2 * (0.5*math.Exp(-0.5*64) + 2e-15)
+	if math.Abs(e.Value-limit) > e.Error || e.Error > bound {
+		t.Errorf("value %.17g ± %.3g, true error %.3g, bound %.3g", e.Value, e.Error, math.Abs(e.Value-limit), bound)
+	}
+}
+
+// Plateau: a cycle expansion converging like exp(−0.2 n²) until a missing
+// cycle of length 7 leaves errors of size 1e-6 that no longer decrease.
+func TestCyclesPlateau(t *testing.T) {
+	const limit = 0.8314023
+	rng := rand.New(rand.NewPCG(3, 11))
+	orders := lengths(12)
+	values := sample(orders, func(n float64) float64 {
+		v := limit + 0.5*math.Exp(-0.2*n*n)
+		if n >= 7 {
+			v += 1e-6 * (2*rng.Float64() - 1)
+		}
+		return v
+	})
+	e := Cycles(orders, values, nil)
+	if e.Status != Plateau {
+		t.Fatalf("status %v (%s), want plateau", e.Status, e.Reason)
+	}
+	// Never an error below the plateau: the largest difference from
+	// n = 8 on, where only the stalled errors remain (0.5 exp(−0.2·64) =
+	// 1.4e-6 is of the same size, so start after it).
+	level := maxAbs(differences(values[8:]))
+	if e.Error < level || math.Abs(e.Value-limit) > e.Error {
+		t.Errorf("value %.10g ± %.3g, plateau level %.3g, true error %.3g", e.Value, e.Error, level, math.Abs(e.Value-limit))
+	}
+	if !strings.Contains(e.Reason, "missing cycles") {
+		t.Errorf("reason %q does not name the likely cause", e.Reason)
+	}
+}
+
+// Oscillation: sign alternation without decay (marginal cycles, pruning).
+func TestCyclesOscillating(t *testing.T) {
+	const limit = 0.25
+	orders := lengths(10)
+	values := sample(orders, func(n float64) float64 {
+		return limit + 1e-3*math.Pow(-1, n)*(1+1/n)
+	})
+	e := Cycles(orders, values, nil)
+	if e.Status != Oscillating {
+		t.Fatalf("status %v (%s), want oscillating", e.Status, e.Reason)
+	}
+	if math.Abs(e.Value-limit) > e.Error {
+		t.Errorf("value %.10g ± %.3g does not contain %v", e.Value, e.Error, limit)
+	}
+}
+
+func TestCyclesNotConvergingAndShort(t *testing.T) {
+	orders := lengths(8)
+	growing := sample(orders, func(n float64) float64 { return 1 + 0.01*n*n })
+	if e := Cycles(orders, growing, nil); e.Status != NotConverging {
+		t.Errorf("growing differences: status %v (%s)", e.Status, e.Reason)
+	}
+	short := Cycles([]int{1, 2, 3}, []float64{1.1, 1.01, 1.001}, nil)
+	if short.Status != TooFewPoints || !(short.Error > 0) {
+		t.Errorf("three orders: %+v", short)
+	}
+	if e := Cycles([]int{3}, []float64{2}, nil); !math.IsInf(e.Error, 1) {
+		t.Errorf("single order: %+v", e)
+	}
+}
