@@ -24,11 +24,23 @@ type Error struct {
 	Msg  string
 }
 
+// Error returns the message on one line: line breaks and other control
+// characters that the file's text brings into it are escaped.
 func (e *Error) Error() string {
+	msg := oneLine(e.Msg)
 	if e.Line > 0 {
-		return fmt.Sprintf("system file %s:%d: %s", e.File, e.Line, e.Msg)
+		return fmt.Sprintf("system file %s:%d: %s", e.File, e.Line, msg)
 	}
-	return fmt.Sprintf("system file %s: %s", e.File, e.Msg)
+	return fmt.Sprintf("system file %s: %s", e.File, msg)
+}
+
+func oneLine(s string) string {
+	return strings.Map(func(r rune) rune {
+		if r < ' ' || r == 0x7f {
+			return -1
+		}
+		return r
+	}, strings.NewReplacer("\n", `\n`, "\r", `\r`, "\t", " ").Replace(s))
 }
 
 // fileSpec mirrors the TOML system file of DESIGN.md section 5.
