@@ -1,6 +1,7 @@
 package expr
 
 import (
+	"math"
 	"math/rand/v2"
 	"testing"
 )
@@ -138,4 +139,82 @@ func BenchmarkHenonDirectGo1e4(b *testing.B) {
 	}
 	benchSlice = dst
 	reportPoints(b, n)
+}
+
+// batchShapeTests are formula lists over x and y that between them take
+// every instruction form and kernel of the batch interpreter: the fused
+// affine forms, the loops for equal strides (as many formulas as
+// variables), the loops for different strides, copies of variables and of
+// earlier results, outputs read by later values, and constant outputs
+// filled by column or by row.
+var batchShapeTests = []struct {
+	name     string
+	formulas []string
+}{
+	{"affine of a square", []string{"1 - 1.5*x^2", "0.5*y^2 + 2"}},
+	{"affine of a product by itself", []string{"1 - x*x*1.5", "0.5*(y*y) + 2 + x"}},
+	{"affine", []string{"2 - 3*x", "y*0.25 - 1"}},
+	{"affine plus", []string{"2 - 0.5*x^2 + y", "3*y - 1 + x"}},
+	{"affine of a product plus", []string{"1 - 3*(x*y) + y", "x - 2*(x*y)"}},
+	{"unary", []string{"-x", "y^2"}},
+	{"cube and function", []string{"x^3", "sin(y)"}},
+	{"variable and constant", []string{"x + 2", "y - 3"}},
+	{"product and quotient by a constant", []string{"x*4", "y/3"}},
+	{"constant and variable", []string{"2 + x", "2 - y"}},
+	{"constant times and over", []string{"3*x", "3/y"}},
+	{"sum and difference", []string{"x + y", "x - y"}},
+	{"product and quotient", []string{"x*y", "x/y"}},
+	{"comparisons", []string{"x < y", "min(x, 0.5) + (y >= 0)"}},
+	{"swapped variables", []string{"y", "x"}},
+	{"same formula twice", []string{"x*y + 1", "x*y + 1"}},
+	{"output used later", []string{"x*y", "1 - 2*(x*y)"}},
+	{"two constants", []string{"1", "-2"}},
+	{"Jacobian with constants", []string{"-2.8*x", "1", "0.3", "0"}},
+	{"three formulas, two constants", []string{"x*y - 1", "2", "0"}},
+}
+
+// TestBatchShapes checks that the batch interpreter agrees bit for bit
+// with Eval for every instruction form, with the rows of points and of
+// results at equal and at different strides, and in place (dst starting
+// at xs[0], which EvalBatch allows when m <= d).
+func TestBatchShapes(t *testing.T) {
+	same := func(a, b float64) bool {
+		return math.Float64bits(a) == math.Float64bits(b) || math.IsNaN(a) && math.IsNaN(b)
+	}
+	for _, tc := range batchShapeTests {
+		nodes := mustParseAll(t, tc.formulas...)
+		// x and y alone, then with unused variables so that the point
+		// rows are wider than the result rows.
+		for _, vars := range [][]string{{"x", "y"}, {"x", "y", "z"}, {"x", "y", "z", "w"}, {"w", "x", "y", "z", "v"}} {
+			p, err := Compile(nodes, vars, nil)
+			if err != nil {
+				t.Fatalf("%s: %v", tc.name, err)
+			}
+			d, m := p.NumVars(), p.NumOut()
+			const n = 2*blockLen + 5
+			xs := randomPoints(n, d)
+			xs[0], xs[1] = 0.5, 0.5 // on the comparisons
+			got := make([]float64, n*m)
+			p.EvalBatch(got, xs)
+			want := make([]float64, m)
+			for i := range n {
+				p.Eval(want, xs[i*d:i*d+d])
+				for k := range m {
+					if !same(got[i*m+k], want[k]) {
+						t.Errorf("%s over %v: formula %d at %v: EvalBatch %v, Eval %v",
+							tc.name, vars, k, xs[i*d:i*d+d], got[i*m+k], want[k])
+					}
+				}
+			}
+			if m > d {
+				continue
+			}
+			p.EvalBatch(xs[:n*m], xs)
+			for i := range got {
+				if !same(xs[i], got[i]) {
+					t.Errorf("%s over %v: in place, value %d is %v, want %v", tc.name, vars, i, xs[i], got[i])
+				}
+			}
+		}
+	}
 }

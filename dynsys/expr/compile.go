@@ -362,7 +362,7 @@ func Compile(formulas []*Node, vars []string, params map[string]float64) (*Progr
 		}
 	}
 	p.g = cp.g
-	p.batch = compileBatch(&p.g, p.outputs, p.d)
+	p.batch = compileBatch(&p.g, p.outputs)
 	p.pool.New = func() any { return p.NewBatch() }
 	return p, nil
 }
