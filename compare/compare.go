@@ -94,6 +94,14 @@ func Compare(ulam, cycles Estimate) Comparison {
 		c.Reasons = append(c.Reasons, fmt.Sprintf("the values differ by %.3g, %.3g times the combined error %.3g (more than %g)",
 			diff, c.Discrepancy, combined, DisagreeBeyond))
 	}
+	for _, p := range []struct {
+		name string
+		est  Estimate
+	}{{"ulam", ulam}, {"cycles", cycles}} {
+		if unconverged(p.est.Status, p.name == "cycles") {
+			c.Unconfirmed(fmt.Sprintf("the %s path has not converged (status %q), so agreement within its error bar %.3g does not confirm the value", p.name, p.est.Status, p.est.Error))
+		}
+	}
 	if c.Verdict != Agree {
 		larger, name := ulam.Error, "ulam"
 		if cycles.Error > larger {
@@ -103,4 +111,31 @@ func Compare(ulam, cycles Estimate) Comparison {
 			name, larger, FormatUncertainty(ulam.Value, ulam.Error), ulam.Status, FormatUncertainty(cycles.Value, cycles.Error), cycles.Status))
 	}
 	return c
+}
+
+// unconverged reports whether a status leaves an estimate unconfirmed: a
+// plateau, an oscillation, no convergence or too few points on either path,
+// and irregular steps on the cycles path, whose expansions of hyperbolic
+// maps converge regularly and faster than exponentially (an irregular
+// sequence there means missing cycles, pruning or marginal orbits). Plain
+// Ulam estimates are irregular by nature and stay confirmable.
+func unconverged(s Status, cyclesPath bool) bool {
+	switch s {
+	case Converged, RoundOffFloor:
+		return false
+	case Irregular:
+		return cyclesPath
+	}
+	return true
+}
+
+// Unconfirmed downgrades an agreement to Inconclusive for the given
+// reason, which is added to Reasons whatever the verdict: callers use it
+// for diagnostics the estimates do not carry, such as a cycle expansion
+// whose coefficients stop decreasing.
+func (c *Comparison) Unconfirmed(reason string) {
+	if c.Verdict == Agree {
+		c.Verdict = Inconclusive
+	}
+	c.Reasons = append(c.Reasons, reason)
 }

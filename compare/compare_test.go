@@ -43,9 +43,22 @@ func TestCompareThresholds(t *testing.T) {
 func TestCompareSpecialCases(t *testing.T) {
 	plateau := Estimate{Value: 1, Error: 1e-6, Status: Plateau, Reason: "cycles: stalled"}
 	good := Estimate{Value: 1, Error: 1e-6, Status: Converged}
+	// Values that agree within the bar of a path that stalled on a plateau
+	// do not confirm each other: inconclusive, with the plateau named.
 	c := Compare(good, plateau)
-	if c.Verdict != Agree || len(c.Reasons) != 1 || !strings.Contains(c.Reasons[0], "plateau") {
-		t.Errorf("stagnation must be noted even when agreeing: %+v", c)
+	if c.Verdict != Inconclusive || len(c.Reasons) < 2 || !strings.Contains(c.Reasons[0], "plateau") {
+		t.Errorf("stagnation must be noted and must block agreement: %+v", c)
+	}
+	// A round-off floor is convergence, and plain Ulam is irregular by
+	// nature: both still agree.
+	floor := Estimate{Value: 1, Error: 1e-15, Status: RoundOffFloor}
+	irregular := Estimate{Value: 1, Error: 1e-6, Status: Irregular}
+	if c := Compare(irregular, floor); c.Verdict != Agree {
+		t.Errorf("irregular Ulam against a cycle floor: %+v", c)
+	}
+	// An irregular cycle expansion is not converged.
+	if c := Compare(good, irregular); c.Verdict != Inconclusive {
+		t.Errorf("irregular cycles: %+v", c)
 	}
 	c = Compare(Estimate{Value: 1, Error: math.Inf(1), Status: TooFewPoints}, good)
 	if c.Verdict != Inconclusive || !math.IsNaN(c.Discrepancy) || len(c.Reasons) == 0 {

@@ -98,7 +98,12 @@ func (lm *lapMap) cycleOf(word []byte, points []float64) bool {
 	for pass := range maxPasses {
 		cur := y
 		// The pass contracts by 1/|Λ|, so the distance left to the fixed
-		// point is about change/(|Λ| − 1).
+		// point is about change/(|Λ| − 1). It must be small on the scale
+		// of the orbit's points, not only of the domain: an orbit that
+		// lingers near a fixed point at an end (0^11 1 of the logistic map
+		// at 4 has a point at 6e-7 and one 1.4e-7 from x = 1) would hand
+		// Newton a start whose steps leave the lap. 1e-12 of the domain
+		// leaves Newton a relative error below 1e-5 even there.
 		lambda := 1.0
 		for j := n - 1; j >= 0; j-- {
 			guess := math.NaN()
@@ -112,7 +117,7 @@ func (lm *lapMap) cycleOf(word []byte, points []float64) bool {
 		}
 		change := math.Abs(cur - y)
 		y = cur
-		if change <= 1e-7*lm.width*math.Max(lambda-1, 0) {
+		if change <= 1e-12*lm.width*math.Max(lambda-1, 0) {
 			converged = true
 			break
 		}

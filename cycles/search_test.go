@@ -100,6 +100,25 @@ func TestLogisticRepeller(t *testing.T) {
 	}
 }
 
+// TestLogistic4Complete searches the logistic map at A = 4, whose laps map
+// onto [0, 1] exactly (complete binary dynamics), where orbits such as
+// 0^11 1 linger near the fixed point 0 and pass within 1e-7 of x = 1: the
+// prime-cycle counts must be the necklace numbers (necklace (Möbius)
+// counting, C. Moreau 1872 (common practice)). A search that stopped its
+// inverse-branch passes too early lost 0^11 1 at length 12.
+func TestLogistic4Complete(t *testing.T) {
+	maxLen := 14
+	if testing.Short() {
+		maxLen = 12
+	}
+	res := search(t, openSystem(t, "logistic4"), &SearchSettings{MaxLen: maxLen})
+	for _, c := range res.Counts {
+		if want, _ := LyndonCount(2, c.Length); c.PrimeCycles != want || c.Note != "" {
+			t.Errorf("length %d: %d prime cycles, want %d (%s)", c.Length, c.PrimeCycles, want, c.Note)
+		}
+	}
+}
+
 func TestCantorMultipliers(t *testing.T) {
 	// Both branches have slope 3 (F. Hausdorff, Math. Ann. 79 (1919)
 	// 157–179 for the set; the slopes are the map's definition), so every
