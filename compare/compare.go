@@ -57,25 +57,40 @@ type Comparison struct {
 // Compare compares the estimates of the same quantity by the two paths: they
 // agree when |a − b| ≤ 2 e, disagree when |a − b| > 5 e, and the comparison
 // is inconclusive in between, where e = sqrt(e_a² + e_b²) is the combined
-// error.
+// error. It is ComparePaths for Ulam's method (whose steps are erratic by
+// nature) against the cycle expansion.
 func Compare(ulam, cycles Estimate) Comparison {
+	return ComparePaths(Path{Name: "ulam", Estimate: ulam, Erratic: true}, Path{Name: "cycles", Estimate: cycles})
+}
+
+// Path is one method's estimate, named for the reasons a Comparison gives.
+type Path struct {
+	Name     string
+	Estimate Estimate
+	// Erratic says that irregular steps are the method's nature (plain
+	// Ulam), so an Irregular status does not leave its estimate
+	// unconfirmed.
+	Erratic bool
+}
+
+// ComparePaths compares two methods' estimates of the same quantity by the
+// rule of Compare.
+func ComparePaths(a, b Path) Comparison {
 	var c Comparison
-	for _, p := range []struct {
-		name string
-		est  Estimate
-	}{{"ulam", ulam}, {"cycles", cycles}} {
-		if p.est.Status.Stagnated() {
-			c.Reasons = append(c.Reasons, fmt.Sprintf("%s path stopped with status %q: %s", p.name, p.est.Status, p.est.Reason))
+	for _, p := range []Path{a, b} {
+		if p.Estimate.Status.Stagnated() {
+			c.Reasons = append(c.Reasons, fmt.Sprintf("%s path stopped with status %q: %s", p.Name, p.Estimate.Status, p.Estimate.Reason))
 		}
 	}
-	diff := math.Abs(ulam.Value - cycles.Value)
-	combined := math.Hypot(ulam.Error, cycles.Error)
+	ea, eb := a.Estimate, b.Estimate
+	diff := math.Abs(ea.Value - eb.Value)
+	combined := math.Hypot(ea.Error, eb.Error)
 	switch {
 	case math.IsNaN(diff) || math.IsNaN(combined) || math.IsInf(combined, 0):
 		c.Discrepancy = math.NaN()
 		c.Verdict = Inconclusive
-		c.Reasons = append(c.Reasons, fmt.Sprintf("no comparison possible: ulam %v ± %v, cycles %v ± %v",
-			ulam.Value, ulam.Error, cycles.Value, cycles.Error))
+		c.Reasons = append(c.Reasons, fmt.Sprintf("no comparison possible: %s %v ± %v, %s %v ± %v",
+			a.Name, ea.Value, ea.Error, b.Name, eb.Value, eb.Error))
 		return c
 	case diff == 0:
 		c.Discrepancy = 0
@@ -94,37 +109,34 @@ func Compare(ulam, cycles Estimate) Comparison {
 		c.Reasons = append(c.Reasons, fmt.Sprintf("the values differ by %.3g, %.3g times the combined error %.3g (more than %g)",
 			diff, c.Discrepancy, combined, DisagreeBeyond))
 	}
-	for _, p := range []struct {
-		name string
-		est  Estimate
-	}{{"ulam", ulam}, {"cycles", cycles}} {
-		if unconverged(p.est.Status, p.name == "cycles") {
-			c.Unconfirmed(fmt.Sprintf("the %s path has not converged (status %q), so agreement within its error bar %.3g does not confirm the value", p.name, p.est.Status, p.est.Error))
+	for _, p := range []Path{a, b} {
+		if unconverged(p.Estimate.Status, !p.Erratic) {
+			c.Unconfirmed(fmt.Sprintf("the %s path has not converged (status %q), so agreement within its error bar %.3g does not confirm the value", p.Name, p.Estimate.Status, p.Estimate.Error))
 		}
 	}
 	if c.Verdict != Agree {
-		larger, name := ulam.Error, "ulam"
-		if cycles.Error > larger {
-			larger, name = cycles.Error, "cycles"
+		larger, name := ea.Error, a.Name
+		if eb.Error > larger {
+			larger, name = eb.Error, b.Name
 		}
-		c.Reasons = append(c.Reasons, fmt.Sprintf("the larger error bar is the %s path's (%.3g); ulam %s (%s), cycles %s (%s)",
-			name, larger, FormatUncertainty(ulam.Value, ulam.Error), ulam.Status, FormatUncertainty(cycles.Value, cycles.Error), cycles.Status))
+		c.Reasons = append(c.Reasons, fmt.Sprintf("the larger error bar is the %s path's (%.3g); %s %s (%s), %s %s (%s)",
+			name, larger, a.Name, FormatUncertainty(ea.Value, ea.Error), ea.Status, b.Name, FormatUncertainty(eb.Value, eb.Error), eb.Status))
 	}
 	return c
 }
 
 // unconverged reports whether a status leaves an estimate unconfirmed: a
-// plateau, an oscillation, no convergence or too few points on either path,
-// and irregular steps on the cycles path, whose expansions of hyperbolic
-// maps converge regularly and faster than exponentially (an irregular
-// sequence there means missing cycles, pruning or marginal orbits). Plain
-// Ulam estimates are irregular by nature and stay confirmable.
-func unconverged(s Status, cyclesPath bool) bool {
+// plateau, an oscillation, no convergence or too few points on any path,
+// and irregular steps on a path that converges regularly by nature, as
+// cycle expansions of hyperbolic maps do (an irregular sequence there means
+// missing cycles, pruning or marginal orbits). Plain Ulam estimates are
+// irregular by nature and stay confirmable.
+func unconverged(s Status, regular bool) bool {
 	switch s {
 	case Converged, RoundOffFloor:
 		return false
 	case Irregular:
-		return cyclesPath
+		return regular
 	}
 	return true
 }

@@ -102,7 +102,15 @@ func cycles(orders []int, values []float64, set Settings) Estimate {
 			Reason: fmt.Sprintf("cycles: differences decay (rate %.3g per step) but their signs are irregular; value is the last estimate, error the larger of %g times the predicted size of the tail and the spread of the last estimates",
 				trend.rate, set.TailFactor)}
 	}
-	return Estimate{Value: last + predicted, Error: math.Max(set.TailFactor*tailErr, minErr), Last: last, Order: order,
+	// A last difference within a decade of the round-off level carries a
+	// rounding error of its own size: the fitted decay cannot be trusted
+	// to extrapolate below it, so the error bar is at least that
+	// difference.
+	errBar := math.Max(set.TailFactor*tailErr, minErr)
+	if lastDiff := math.Abs(d[L]); lastDiff <= 10*set.RoundOff*scale {
+		errBar = math.Max(errBar, lastDiff)
+	}
+	return Estimate{Value: last + predicted, Error: errBar, Last: last, Order: order,
 		Status: Converged, Used: orders[n-1],
 		Reason: fmt.Sprintf("cycles: differences decay at rate %.3g per step (rate growing by %.3g per step); tail of the future differences added, error from the back-tested miss %.3g in ln|d|",
 			trend.rate, trend.growth, miss)}

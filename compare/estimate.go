@@ -62,10 +62,11 @@ func (s Status) String() string {
 }
 
 // Stagnated reports whether s is one of the statuses that mean the sequence
-// stopped improving or never had enough points to judge (every status but
-// Converged and Irregular).
+// stopped improving above round-off or never had enough points to judge:
+// every status but Converged, Irregular and RoundOffFloor (a sequence at
+// its round-off floor has converged as far as double precision goes).
 func (s Status) Stagnated() bool {
-	return s != Converged && s != Irregular
+	return s != Converged && s != Irregular && s != RoundOffFloor
 }
 
 // Estimate is the result of analysing one sequence of estimates of the same

@@ -307,7 +307,7 @@ func complexText(v complex128) string {
 	if imag(v) < 0 {
 		sign = "-"
 	}
-	return fmt.Sprintf("%.10g%s%.10gi", real(v), sign, math.Abs(imag(v)))
+	return fmt.Sprintf("%.12g%s%.12gi", real(v), sign, math.Abs(imag(v)))
 }
 
 func formatValue(v float64) string {

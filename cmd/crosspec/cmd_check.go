@@ -1,0 +1,748 @@
+package main
+
+import (
+	"context"
+	"flag"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+
+	"gonum.org/v1/plot/vg/draw"
+
+	"crosspec/compare"
+	"crosspec/cycles"
+	"crosspec/dynsys"
+	"crosspec/ulam"
+	"crosspec/ulam/galerkin"
+)
+
+func init() { register(checkCommand) }
+
+var checkCommand = &command{
+	name:    "check",
+	args:    "SYSTEM",
+	summary: "both paths side by side: convergence, extrapolation, error bars, verdict, advice",
+	details: `Runs the Ulam path on grids of growing size and the cycle expansion at growing
+cycle length, puts both sequences side by side, extrapolates each with an error
+estimate drawn from its observed convergence, and says whether the two agree:
+"agree" when they differ by at most 2 combined errors, "disagree" beyond 5,
+"inconclusive" in between. It also recommends the shortest cycle length whose
+estimated error is below --tol, and the partition size Ulam would need.
+
+The error bars are estimates, not rigorous bounds: read "agree" as "consistent
+within the estimated errors" and look at the table before trusting a number.
+
+--out DIR writes the report in every format, the plots (convergence, spectrum,
+and for 1D maps the density) and a manifest that records what is needed to
+reproduce the run.`,
+	setup: func(fs *flag.FlagSet, e *env) func([]string) int {
+		params := paramFlag{}
+		fs.Var(params, "param", "override a parameter, NAME=VALUE (repeatable)")
+		quantity := fs.String("quantity", "", "quantity: "+quantityNames()+" (default escape-rate for open systems, lyapunov for closed 1D maps, eigenvalues otherwise)")
+		cells := fs.String("cells", "", "comma-separated Ulam cell counts (default 1024 doubling to 262144 in 1D, to 65536 in 2D)")
+		points := fs.Int("points", 16, "test points per cell for maps of dimension d >= 2")
+		opts := checkOptions{}
+		fs.IntVar(&opts.expand.maxLen, "max-len", 0, "longest cycle length (default 12 in 1D, 8 otherwise)")
+		fs.StringVar(&opts.expand.cycleFile, "cycles", "", "read the cycles from `FILE` instead of searching")
+		function := fs.String("expansion", "determinant", "cycle expansion: determinant, zeta or factorized (1D)")
+		fs.Float64Var(&opts.beta, "beta", 0, "β of the weight exp(β a(x))")
+		fs.IntVar(&opts.eigs, "eigs", 3, "eigenvalues per path for quantity eigenvalues and for the spectrum plot")
+		fs.Float64Var(&opts.tol, "tol", compare.DefaultTolerance, "tolerance for the truncation advice")
+		format := fs.String("format", formatTable, "output format: table, csv, json, latex or markdown")
+		fs.StringVar(&opts.plot, "plot", "", "write the convergence plot to `FILE` (.svg or .png)")
+		fs.StringVar(&opts.outDir, "out", "", "write the report, plots and manifest into `DIR`")
+		quiet := fs.Bool("quiet", false, "no progress indicator")
+		methods := fs.String("methods", "ulam,cycles", "paths to run and compare: ulam, galerkin, cycles (at least two)")
+		degree := fs.Int("degree", 6, "galerkin: polynomial degree per cell")
+		basis := fs.String("basis", "cells", "galerkin: cells (piecewise polynomials) or chebyshev (global)")
+		gsizes := fs.String("galerkin-sizes", "", "galerkin: increasing cell counts (default 2,4,8,16,32) or Chebyshev sizes (default 8,12,...,40), evenly stepped or doubling")
+		return func(args []string) int {
+			if err := checkFormat(*format); err != nil {
+				return e.fail(err)
+			}
+			var err error
+			if opts.methods, err = parseMethods(*methods); err != nil {
+				return e.fail(err)
+			}
+			if opts.disc, err = parseDiscretization(*basis, *degree); err != nil {
+				return e.fail(err)
+			}
+			if opts.galerkinSizes, err = parseSizes(*gsizes, opts.disc); err != nil {
+				return e.fail(err)
+			}
+			if opts.plot != "" {
+				if _, err := plotFormat(opts.plot); err != nil {
+					return e.fail(err)
+				}
+			}
+			if opts.expand.function, err = parseExpansion(*function); err != nil {
+				return e.fail(err)
+			}
+			if !(opts.tol > 0) || *points < 1 || opts.eigs < 1 {
+				return e.fail(usagef("--tol, --points and --eigs must be positive"))
+			}
+			s, err := openSystem(args, params)
+			if err != nil {
+				return e.fail(err)
+			}
+			if opts.quantity, err = defaultQuantity(s, *quantity); err != nil {
+				return e.fail(err)
+			}
+			if opts.runs, err = parseRuns(defaultCells(s, *cells), "", s.Dim()); err != nil {
+				return e.fail(err)
+			}
+			if opts.expand.maxLen == 0 {
+				opts.expand.maxLen = 12
+				if s.Dim() > 1 {
+					opts.expand.maxLen = 8
+				}
+			}
+			if opts.expand.maxLen < 1 {
+				return e.fail(usagef("--max-len %d: expected a positive length", opts.expand.maxLen))
+			}
+			opts.points = *points
+			opts.format = *format
+			opts.progress = !*quiet && isTerminal(e.stderr)
+			ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+			defer stop()
+			return runCheckCommand(ctx, e, s, opts, append([]string{"crosspec", "check"}, args...))
+		}
+	},
+}
+
+// parseMethods reads --methods: a set of at least two of ulam, galerkin
+// and cycles.
+func parseMethods(list string) (map[string]bool, error) {
+	set := map[string]bool{}
+	for _, m := range strings.Split(list, ",") {
+		m = strings.TrimSpace(m)
+		switch m {
+		case "ulam", "galerkin", "cycles":
+			set[m] = true
+		default:
+			return nil, usagef("--methods %q: expected a comma-separated list of ulam, galerkin and cycles", list)
+		}
+	}
+	if len(set) < 2 {
+		return nil, usagef("--methods %q: name at least two paths to compare", list)
+	}
+	return set, nil
+}
+
+// parseSizes reads --galerkin-sizes, with defaults by basis.
+func parseSizes(list string, d discretization) ([]int, error) {
+	if list == "" {
+		if d.basis == galerkin.Chebyshev {
+			return []int{8, 12, 16, 20, 24, 28, 32, 36, 40}, nil
+		}
+		return []int{2, 4, 8, 16, 32}, nil
+	}
+	var sizes []int
+	for _, f := range strings.Split(list, ",") {
+		n, err := strconv.Atoi(strings.TrimSpace(f))
+		if err != nil || n < 1 || (len(sizes) > 0 && n <= sizes[len(sizes)-1]) {
+			return nil, usagef("--galerkin-sizes %q: expected increasing positive counts separated by commas", list)
+		}
+		sizes = append(sizes, n)
+	}
+	return sizes, nil
+}
+
+// checkOptions are the settings of one comparison.
+type checkOptions struct {
+	methods       map[string]bool
+	disc          discretization
+	galerkinSizes []int
+	quantity      dynsys.Quantity
+	runs          []ulamRun
+	points        int
+	beta          float64
+	eigs          int
+	tol           float64
+	expand        expandOptions
+	format        string
+	plot          string
+	outDir        string
+	progress      bool
+}
+
+func defaultQuantity(s *dynsys.System, name string) (dynsys.Quantity, error) {
+	if name != "" {
+		q, err := dynsys.ParseQuantity(name)
+		if err != nil {
+			return "", usagef("--quantity: %v", err)
+		}
+		return q, nil
+	}
+	switch {
+	case !s.Closed:
+		return dynsys.EscapeRate, nil
+	case s.Dim() == 1:
+		return dynsys.Lyapunov, nil
+	}
+	return dynsys.Eigenvalues, nil
+}
+
+func defaultCells(s *dynsys.System, cells string) string {
+	if cells != "" {
+		return cells
+	}
+	last := 18
+	if s.Dim() > 1 {
+		last = 16
+	}
+	var list []string
+	for k := 10; k <= last; k++ {
+		list = append(list, strconv.Itoa(1<<k))
+	}
+	return strings.Join(list, ",")
+}
+
+// checkResult is the outcome of both paths and their comparison.
+type checkResult struct {
+	system     *dynsys.System
+	opts       checkOptions
+	ulamRuns   []ulamRunJSON
+	ulamLast   ulam.Result
+	ulamEst    compare.Estimate
+	expansion  cycles.QuantityResult
+	info       cycleInfo
+	cyclesEst  compare.Estimate
+	comparison compare.Comparison
+	advice     compare.Advice
+	seconds    map[string]float64
+
+	// The higher-order basis, when --methods names galerkin.
+	galerkinRuns       []ulamRunJSON
+	galerkinLast       galerkin.Result
+	galerkinEst        compare.Estimate
+	galerkinComparison compare.Comparison
+}
+
+// galerkinValues returns the sizes and the estimates of the higher-order
+// basis.
+func (r *checkResult) galerkinValues() ([]int, []float64) {
+	sizes := make([]int, len(r.galerkinRuns))
+	values := make([]float64, len(r.galerkinRuns))
+	for i, run := range r.galerkinRuns {
+		sizes[i], values[i] = run.GridCells, run.Value
+	}
+	return sizes, values
+}
+
+// ulamValues returns the grid sizes and the Ulam estimates.
+func (r *checkResult) ulamValues() ([]int, []float64) {
+	cells := make([]int, len(r.ulamRuns))
+	values := make([]float64, len(r.ulamRuns))
+	for i, run := range r.ulamRuns {
+		cells[i], values[i] = run.GridCells, run.Value
+	}
+	return cells, values
+}
+
+// cycleValues returns the truncation lengths and the cycle estimates.
+func (r *checkResult) cycleValues() ([]int, []float64) {
+	orders := make([]int, len(r.expansion.Orders))
+	values := make([]float64, len(r.expansion.Orders))
+	for i, o := range r.expansion.Orders {
+		orders[i], values[i] = o.MaxLen, o.Value
+	}
+	return orders, values
+}
+
+// runCheck runs both paths and compares them.
+func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) (*checkResult, error) {
+	if err := checkQuantity(s, opts.quantity); err != nil {
+		return nil, err
+	}
+	if (opts.quantity == dynsys.Lyapunov) && s.Dim() != 1 {
+		return nil, usagef("quantity lyapunov is compared for 1D maps only; %s has dimension %d", s.Name, s.Dim())
+	}
+	r := &checkResult{system: s, opts: opts, seconds: map[string]float64{}}
+	start := time.Now()
+	solve := &ulam.SolveSettings{Eigenvalues: 1, Density: s.Dim() == 1}
+	if opts.quantity == dynsys.Eigenvalues || opts.quantity == dynsys.DecayRate {
+		solve.Eigenvalues = max(opts.eigs, 2)
+	}
+	runs := opts.runs
+	if !opts.methods["ulam"] {
+		runs = nil
+	}
+	for i, run := range runs {
+		if err := ctx.Err(); err != nil {
+			return nil, &numericalError{fmt.Errorf("interrupted during the Ulam runs")}
+		}
+		if opts.progress {
+			fmt.Fprintf(e.stderr, "\rUlam: %s (%d of %d)\033[K", run.label(s), i+1, len(opts.runs))
+		}
+		t0 := time.Now()
+		res, err := ulam.Compute(s, opts.quantity, &ulam.Settings{Cells: run.cells, Shape: run.shape, Points: opts.points, Beta: opts.beta}, solve)
+		if err != nil {
+			if opts.progress {
+				fmt.Fprint(e.stderr, "\r\033[K")
+			}
+			return nil, &numericalError{fmt.Errorf("Ulam path, %s: %v", run.label(s), err)}
+		}
+		r.ulamRuns = append(r.ulamRuns, newUlamRun(res, time.Since(t0).Seconds()))
+		r.ulamLast = res
+	}
+	if opts.progress {
+		fmt.Fprint(e.stderr, "\r\033[K")
+	}
+	r.seconds["ulam"] = time.Since(start).Seconds()
+
+	if opts.methods["galerkin"] {
+		start = time.Now()
+		gsolve := &ulam.SolveSettings{Eigenvalues: solve.Eigenvalues}
+		for i, size := range opts.galerkinSizes {
+			if opts.progress {
+				fmt.Fprintf(e.stderr, "\r%s: size %d (%d of %d)\033[K", opts.disc, size, i+1, len(opts.galerkinSizes))
+			}
+			run, res, err := runGalerkin(s, opts.quantity, opts.disc, size, opts.beta, gsolve)
+			if err != nil {
+				return nil, err
+			}
+			r.galerkinRuns = append(r.galerkinRuns, run)
+			r.galerkinLast = res
+		}
+		if opts.progress {
+			fmt.Fprint(e.stderr, "\r\033[K")
+		}
+		r.seconds["galerkin"] = time.Since(start).Seconds()
+	}
+
+	start = time.Now()
+	expandOpts := opts.expand
+	expandOpts.quantity, expandOpts.beta, expandOpts.eigs, expandOpts.progress = opts.quantity, opts.beta, opts.eigs, opts.progress
+	res, info, err := runExpansion(ctx, e, s, expandOpts)
+	if err != nil {
+		return nil, err
+	}
+	r.expansion, r.info = res, info
+	r.seconds["cycles"] = time.Since(start).Seconds()
+
+	cells, ulamValues := r.ulamValues()
+	orders, cycleValues := r.cycleValues()
+	r.cyclesEst = compare.Cycles(orders, cycleValues, nil)
+	cyclesPath := compare.Path{Name: "cycles", Estimate: r.cyclesEst}
+	stalled := ""
+	if d := r.expansion.Diagnostics; d.Stalled {
+		stalled = fmt.Sprintf("the cycle expansion's coefficients stop decreasing at length %d: missing cycles, pruning or marginal cycles", d.StallLen)
+	}
+	if len(cells) > 0 {
+		r.ulamEst = compare.Ulam(cells, ulamValues, nil)
+		r.comparison = compare.ComparePaths(compare.Path{Name: "ulam", Estimate: r.ulamEst, Erratic: true}, cyclesPath)
+		if stalled != "" {
+			r.comparison.Unconfirmed(stalled)
+		}
+	}
+	if sizes, values := r.galerkinValues(); len(sizes) > 0 {
+		// Higher-order bases converge fast and regularly: exponentially in
+		// the size of a spectral basis, like h^(p+1) or faster for
+		// piecewise polynomials, so over a doubling or evenly stepped
+		// sequence the differences decay at least geometrically in the
+		// step index. The fit of decaying differences that serves the
+		// cycle expansion extrapolates them, on the index.
+		steps := make([]int, len(sizes))
+		for i := range steps {
+			steps[i] = i + 1
+		}
+		r.galerkinEst = compare.Cycles(steps, values, nil)
+		r.galerkinComparison = compare.ComparePaths(compare.Path{Name: "galerkin", Estimate: r.galerkinEst}, cyclesPath)
+		if stalled != "" {
+			r.galerkinComparison.Unconfirmed(stalled)
+		}
+		if len(cells) == 0 {
+			r.comparison = r.galerkinComparison
+		}
+	}
+	r.advice = compare.Advise(cells, ulamValues, orders, cycleValues, opts.tol)
+	return r, nil
+}
+
+func runCheckCommand(ctx context.Context, e *env, s *dynsys.System, opts checkOptions, command []string) int {
+	start := time.Now()
+	r, err := runCheck(ctx, e, s, opts)
+	if err != nil {
+		return e.fail(err)
+	}
+	r.seconds["total"] = time.Since(start).Seconds()
+	if err := r.write(e.stdout, opts.format); err != nil {
+		return e.fail(err)
+	}
+	if opts.plot != "" {
+		if err := r.writeConvergencePlot(opts.plot); err != nil {
+			return e.fail(err)
+		}
+	}
+	if opts.outDir != "" {
+		files, err := r.writeAll(opts.outDir, command)
+		if err != nil {
+			return e.fail(err)
+		}
+		if opts.format == formatTable {
+			fmt.Fprintf(e.stdout, "wrote %s\n", strings.Join(files, ", "))
+		}
+	}
+	return exitOK
+}
+
+// column is one path's sequence for the convergence table.
+type column struct {
+	resolution, name string
+	x                []int
+	values           []float64
+}
+
+func (r *checkResult) columns() []column {
+	q := string(r.opts.quantity)
+	var cols []column
+	if cells, uv := r.ulamValues(); len(cells) > 0 {
+		cols = append(cols, column{"cells N", "Ulam " + q, cells, uv})
+	}
+	if sizes, gv := r.galerkinValues(); len(sizes) > 0 {
+		res := "cells"
+		if r.opts.disc.basis == galerkin.Chebyshev {
+			res = "points"
+		}
+		cols = append(cols, column{res, "Galerkin " + q, sizes, gv})
+	}
+	orders, cv := r.cycleValues()
+	return append(cols, column{"cycle length n", "cycles " + q, orders, cv})
+}
+
+// convergenceGrid lays the paths side by side against their resolution.
+func (r *checkResult) convergenceGrid() *grid {
+	cols := r.columns()
+	g := &grid{}
+	rows := 0
+	for _, c := range cols {
+		g.header = append(g.header, c.resolution, c.name, "change")
+		rows = max(rows, len(c.x))
+	}
+	for i := range rows {
+		var row []string
+		for _, c := range cols {
+			cell := []string{"", "", ""}
+			if i < len(c.x) {
+				cell[0], cell[1] = strconv.Itoa(c.x[i]), formatValue(c.values[i])
+				if i > 0 {
+					cell[2] = formatSmall(math.Abs(c.values[i] - c.values[i-1]))
+				}
+			}
+			row = append(row, cell...)
+		}
+		g.add(row...)
+	}
+	return g
+}
+
+// summaryGrid gives the extrapolated values with their error bars.
+func (r *checkResult) summaryGrid() *grid {
+	g := &grid{header: []string{"path", "estimate", "error", "value(error)", "convergence", "status"}}
+	add := func(name string, est compare.Estimate, conv string) {
+		g.add(name, formatValue(est.Value), formatSmall(est.Error), compare.FormatUncertainty(est.Value, est.Error), conv, est.Status.String())
+	}
+	rate := func(v float64, format string) string {
+		if math.IsNaN(v) {
+			return "-"
+		}
+		return fmt.Sprintf(format, v)
+	}
+	if len(r.ulamRuns) > 0 {
+		add("Ulam", r.ulamEst, rate(r.ulamEst.Order, "order %.2g in 1/N"))
+	}
+	if len(r.galerkinRuns) > 0 {
+		add("Galerkin, "+r.opts.disc.String(), r.galerkinEst, rate(r.galerkinEst.Order, "rate %.2g a step"))
+	}
+	add("cycles", r.cyclesEst, rate(r.cyclesEst.Order, "rate %.2g"))
+	return g
+}
+
+func comparisonLines(title string, c compare.Comparison) []string {
+	lines := []string{fmt.Sprintf("%s: %s (discrepancy %.2g combined errors; agree ≤ %g, disagree > %g)",
+		title, c.Verdict, c.Discrepancy, compare.AgreeWithin, compare.DisagreeBeyond)}
+	for _, reason := range c.Reasons {
+		lines = append(lines, "  "+reason)
+	}
+	return lines
+}
+
+func (r *checkResult) verdictLines() []string {
+	var lines []string
+	if len(r.ulamRuns) > 0 {
+		lines = comparisonLines("verdict, Ulam against cycles", r.comparison)
+	}
+	if len(r.galerkinRuns) > 0 {
+		lines = append(lines, comparisonLines("verdict, Galerkin against cycles", r.galerkinComparison)...)
+	}
+	a := r.advice
+	if a.CycleLength > 0 {
+		lines = append(lines, fmt.Sprintf("advice: cycle length %d reaches the tolerance %g", a.CycleLength, r.opts.tol))
+	} else {
+		lines = append(lines, fmt.Sprintf("advice: no cycle length up to %d reaches the tolerance %g", r.opts.expand.maxLen, r.opts.tol))
+	}
+	if a.CellsNeeded > 0 && !math.IsInf(a.CellsNeeded, 0) {
+		lines = append(lines, fmt.Sprintf("  Ulam would need about %.3g cells for the same tolerance at its observed order", a.CellsNeeded))
+	}
+	for _, n := range a.Notes {
+		lines = append(lines, "  "+n)
+	}
+	for _, w := range expansionWarnings(r.expansion, r.info) {
+		lines = append(lines, "warning: "+w)
+	}
+	return lines
+}
+
+// jsonCheck is the check document of DESIGN.md section 6.
+type jsonCheck struct {
+	System      string             `json:"system"`
+	Quantity    string             `json:"quantity"`
+	Beta        float64            `json:"beta"`
+	Ulam        jsonCheckUlam      `json:"ulam"`
+	Cycles      jsonCheckCyc       `json:"cycles"`
+	Agree       bool               `json:"agree"`
+	Verdict     string             `json:"verdict"`
+	Discrepancy jsonFloat          `json:"discrepancy"`
+	Reasons     []string           `json:"reasons"`
+	CellsNeeded jsonFloat          `json:"ulam_cells_needed"`
+	Tol         float64            `json:"tol"`
+	Seconds     map[string]float64 `json:"seconds"`
+	Galerkin    *jsonCheckGalerkin `json:"galerkin,omitempty"`
+}
+
+type jsonCheckUlam struct {
+	Runs     []ulamRunJSON `json:"runs"`
+	Estimate jsonFloat     `json:"estimate"`
+	Error    jsonFloat     `json:"error"`
+	Status   string        `json:"status"`
+	Reason   string        `json:"reason,omitempty"`
+}
+
+type jsonCheckGalerkin struct {
+	Basis       string        `json:"basis"`
+	Runs        []ulamRunJSON `json:"runs"`
+	Estimate    jsonFloat     `json:"estimate"`
+	Error       jsonFloat     `json:"error"`
+	Status      string        `json:"status"`
+	Verdict     string        `json:"verdict_against_cycles"`
+	Discrepancy jsonFloat     `json:"discrepancy_against_cycles"`
+	Reasons     []string      `json:"reasons"`
+}
+
+type jsonCheckCyc struct {
+	Orders            []jsonOrder `json:"orders"`
+	Estimate          jsonFloat   `json:"estimate"`
+	Error             jsonFloat   `json:"error"`
+	Status            string      `json:"status"`
+	Reason            string      `json:"reason,omitempty"`
+	RecommendedMaxLen int         `json:"recommended_max_len"`
+	Source            string      `json:"cycle_source"`
+}
+
+func (r *checkResult) json() jsonCheck {
+	doc := jsonCheck{
+		System: r.system.Name, Quantity: string(r.opts.quantity), Beta: r.opts.beta,
+		Ulam: jsonCheckUlam{Runs: r.ulamRuns, Estimate: jsonFloat(r.ulamEst.Value), Error: jsonFloat(r.ulamEst.Error),
+			Status: r.ulamEst.Status.String(), Reason: r.ulamEst.Reason},
+		Cycles: jsonCheckCyc{Estimate: jsonFloat(r.cyclesEst.Value), Error: jsonFloat(r.cyclesEst.Error), Status: r.cyclesEst.Status.String(),
+			Reason: r.cyclesEst.Reason, RecommendedMaxLen: r.advice.CycleLength, Source: r.info.status},
+		Agree: r.comparison.Verdict == compare.Agree, Verdict: r.comparison.Verdict.String(),
+		Discrepancy: jsonFloat(r.comparison.Discrepancy), Reasons: r.comparison.Reasons,
+		CellsNeeded: jsonFloat(r.advice.CellsNeeded), Tol: r.opts.tol, Seconds: r.seconds,
+	}
+	if doc.Reasons == nil {
+		doc.Reasons = []string{}
+	}
+	if len(r.galerkinRuns) > 0 {
+		g := r.galerkinComparison
+		doc.Galerkin = &jsonCheckGalerkin{Basis: r.opts.disc.String(), Runs: r.galerkinRuns, Estimate: jsonFloat(r.galerkinEst.Value),
+			Error: jsonFloat(r.galerkinEst.Error), Status: r.galerkinEst.Status.String(), Verdict: g.Verdict.String(),
+			Discrepancy: jsonFloat(g.Discrepancy), Reasons: append([]string{}, g.Reasons...)}
+	}
+	cum := 0
+	for i, o := range r.expansion.Orders {
+		for n := i + 1; n <= o.MaxLen && n < len(r.info.counts); n++ {
+			cum += r.info.counts[n]
+		}
+		doc.Cycles.Orders = append(doc.Cycles.Orders, jsonOrder{MaxLen: o.MaxLen, Cycles: cum,
+			Eigenvalues: toJSONComplex(trimEigs(o.Eigenvalues, r.opts.eigs)), Value: jsonFloat(o.Value), Floor: jsonFloat(o.Floor)})
+	}
+	return doc
+}
+
+// write renders the report in format.
+func (r *checkResult) write(w io.Writer, format string) error {
+	if format == formatJSON {
+		return writeJSON(w, r.json())
+	}
+	if format == formatTable {
+		fmt.Fprintf(w, "%s of %s: Ulam's method against the cycle expansion (%s)\n", r.opts.quantity, r.system.Name, expansionName(r.opts.expand.function))
+	}
+	if err := r.convergenceGrid().render(w, format); err != nil {
+		return err
+	}
+	if format == formatCSV || format == formatLaTeX {
+		fmt.Fprintln(w)
+	}
+	if err := r.summaryGrid().render(w, format); err != nil {
+		return err
+	}
+	prefix := ""
+	switch format {
+	case formatLaTeX:
+		prefix = "% "
+	case formatCSV:
+		return nil
+	case formatMarkdown:
+		fmt.Fprintln(w)
+	}
+	for _, line := range r.verdictLines() {
+		fmt.Fprintln(w, prefix+line)
+	}
+	if format == formatTable {
+		fmt.Fprintln(w, "Error bars are estimates from the observed convergence, not rigorous bounds.")
+	}
+	return nil
+}
+
+func (r *checkResult) convergenceSeries() []convergenceSeries {
+	cells, uv := r.ulamValues()
+	orders, cv := r.cycleValues()
+	xs := func(ints []int) []float64 {
+		out := make([]float64, len(ints))
+		for i, v := range ints {
+			out[i] = float64(v)
+		}
+		return out
+	}
+	var series []convergenceSeries
+	if len(cells) > 0 {
+		series = append(series, convergenceSeries{label: "Ulam's method", xLabel: "cells N", logX: true, x: xs(cells), values: uv, estimate: r.ulamEst, colour: ulamColour})
+	}
+	if sizes, gv := r.galerkinValues(); len(sizes) > 0 {
+		xLabel, logX := "cells N", true
+		if r.opts.disc.basis == galerkin.Chebyshev {
+			xLabel, logX = "Chebyshev points n", false
+		}
+		series = append(series, convergenceSeries{label: "Galerkin, " + r.opts.disc.String(), xLabel: xLabel, logX: logX, x: xs(sizes), values: gv, estimate: r.galerkinEst, colour: thirdColour})
+	}
+	return append(series, convergenceSeries{label: "cycle expansion", xLabel: "cycle length n", x: xs(orders), values: cv, estimate: r.cyclesEst, colour: cyclesColour})
+}
+
+func (r *checkResult) writeConvergencePlot(path string) error {
+	return writeConvergencePlot(path, r.system.Name, string(r.opts.quantity), r.convergenceSeries())
+}
+
+func (r *checkResult) writeSpectrumPlot(path string) error {
+	// The eigenvalues of the length the cycle estimate was taken at: later
+	// lengths add round-off to the subleading zeros.
+	var cyc []complex128
+	for _, o := range r.expansion.Orders {
+		if o.MaxLen <= max(r.expansion.Estimate.Len, 1) {
+			cyc = trimEigs(o.Eigenvalues, max(r.opts.eigs, 1))
+		}
+	}
+	if len(r.expansion.Eigenvalues) > 0 {
+		cyc = cyc[:0]
+		for _, ev := range r.expansion.Eigenvalues {
+			cyc = append(cyc, ev.Value)
+		}
+	}
+	return writeSpectrumPlot(path, r.system.Name+": leading eigenvalues", []spectrumSet{
+		{label: "Ulam, largest grid", values: r.ulamLast.Eigenvalues, colour: ulamColour, shape: draw.RingGlyph{}},
+		{label: fmt.Sprintf("cycle expansion, length %d", r.expansion.Estimate.Len), values: cyc, colour: cyclesColour, shape: draw.CrossGlyph{}},
+	})
+}
+
+// writeAll writes every rendering, the plots and the manifest into dir.
+func (r *checkResult) writeAll(dir string, command []string) ([]string, error) {
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return nil, usagef("--out: %v", unwrapPath(err))
+	}
+	var files []string
+	save := func(name string, write func(path string) error) error {
+		path := filepath.Join(dir, name)
+		if err := write(path); err != nil {
+			return fmt.Errorf("writing %s: %w", path, err)
+		}
+		files = append(files, path)
+		return nil
+	}
+	ext := map[string]string{formatTable: "txt", formatCSV: "csv", formatJSON: "json", formatLaTeX: "tex", formatMarkdown: "md"}
+	for _, f := range formats {
+		f := f
+		if err := save("report."+ext[f], func(path string) error {
+			out, err := os.Create(path)
+			if err != nil {
+				return err
+			}
+			if err := r.write(out, f); err != nil {
+				out.Close()
+				return err
+			}
+			return out.Close()
+		}); err != nil {
+			return nil, err
+		}
+	}
+	for _, ext := range []string{"svg", "png"} {
+		if err := save("convergence."+ext, r.writeConvergencePlot); err != nil {
+			return nil, err
+		}
+	}
+	for _, ext := range []string{"svg", "png"} {
+		if err := save("spectrum."+ext, r.writeSpectrumPlot); err != nil {
+			return nil, err
+		}
+		if r.system.Dim() == 1 && r.ulamLast.Density != nil {
+			if err := save("density."+ext, r.writeDensityPlot); err != nil {
+				return nil, err
+			}
+		}
+	}
+	m := newManifest(command, r.system)
+	m.Flags["quantity"] = string(r.opts.quantity)
+	m.Flags["beta"] = strconv.FormatFloat(r.opts.beta, 'g', -1, 64)
+	m.Flags["max-len"] = strconv.Itoa(r.opts.expand.maxLen)
+	m.Flags["expansion"] = expansionName(r.opts.expand.function)
+	m.Flags["tol"] = strconv.FormatFloat(r.opts.tol, 'g', -1, 64)
+	m.Flags["points"] = strconv.Itoa(r.opts.points)
+	var cells []string
+	for _, run := range r.ulamRuns {
+		cells = append(cells, strconv.Itoa(run.GridCells))
+	}
+	m.Flags["cells"] = strings.Join(cells, ",")
+	if r.opts.expand.cycleFile != "" {
+		m.Flags["cycles"] = r.opts.expand.cycleFile
+	}
+	m.Counts["prime_cycles_per_length"] = r.info.counts
+	m.Seconds = r.seconds
+	m.Notes = append(m.Notes, r.info.status)
+	m.Outputs = append([]string(nil), files...)
+	if err := save("manifest.json", m.write); err != nil {
+		return nil, err
+	}
+	return files, nil
+}
+
+func (r *checkResult) writeDensityPlot(path string) error {
+	m := r.ulamLast.Matrix
+	x := make([]float64, len(m.Cells))
+	centre := make([]float64, 1)
+	for i, cell := range m.Cells {
+		m.Grid.CenterTo(centre, cell)
+		x[i] = centre[0]
+	}
+	title := r.system.Name + ": invariant density"
+	if !r.system.Closed {
+		title = r.system.Name + ": conditionally invariant density"
+	}
+	return writeDensityPlot(path, title, r.system.Vars[0], x, r.ulamLast.Density)
+}

@@ -1,0 +1,359 @@
+package main
+
+import (
+	"bufio"
+	"flag"
+	"fmt"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+	"time"
+
+	"crosspec/dynsys"
+	"crosspec/ulam"
+	"crosspec/ulam/galerkin"
+)
+
+func init() { register(ulamCommand) }
+
+var ulamCommand = &command{
+	name:    "ulam",
+	args:    "SYSTEM",
+	summary: "Ulam path alone: transfer matrices on grids of growing size and their leading spectrum",
+	details: `For each grid size the transfer matrix P_ij (the fraction of cell i that the
+map sends into cell j, weighted by exp(beta a)) is built, restricted to the
+cells that carry the dynamics, and its leading eigenvalues are computed.
+1D maps are assembled exactly from their monotone laps; maps of dimension
+d >= 2 from --points test points per cell.
+
+--export and --density write the matrix and the leading density of the last
+(largest) grid. The Matrix Market file holds P with rows = source cells; the
+transfer operator acting on densities is its transpose.`,
+	setup: func(fs *flag.FlagSet, e *env) func([]string) int {
+		params := paramFlag{}
+		fs.Var(params, "param", "override a parameter, NAME=VALUE (repeatable)")
+		cells := fs.String("cells", "1024,4096", "comma-separated cell counts, one run each")
+		grids := fs.String("grid", "", "comma-separated exact grid shapes such as 1024x512 (overrides --cells)")
+		points := fs.Int("points", 16, "test points per cell for maps of dimension d >= 2")
+		eigs := fs.Int("eigs", 1, "number of leading eigenvalues to report")
+		beta := fs.Float64("beta", 0, "inverse temperature beta of the weight exp(beta a)")
+		quantity := fs.String("quantity", string(dynsys.Eigenvalues), "quantity to estimate: "+quantityNames())
+		format := fs.String("format", formatTable, "output format: table, csv, json, latex or markdown")
+		tol := fs.Float64("tol", 1e-12, "relative residual of the eigen-solver")
+		restrict := fs.String("restrict", "auto", "cells kept: auto, none, survivors, cycles or recurrent")
+		export := fs.String("export", "", "write the last matrix in Matrix Market format to `FILE.mtx`")
+		density := fs.String("density", "", "write the leading density of the last grid to `FILE.csv`")
+		quiet := fs.Bool("quiet", false, "no progress messages on a terminal")
+		degree := fs.Int("degree", 0, "polynomial degree per cell (0 = plain Ulam; 1D maps)")
+		basis := fs.String("basis", "cells", "basis: cells (piecewise polynomials) or chebyshev (global, 1D; --cells then counts Chebyshev points)")
+		return func(args []string) int {
+			if err := checkFormat(*format); err != nil {
+				return e.fail(err)
+			}
+			q, err := dynsys.ParseQuantity(*quantity)
+			if err != nil {
+				return e.fail(usagef("--quantity: %v", err))
+			}
+			restriction, err := ulam.ParseRestriction(*restrict)
+			if err != nil {
+				return e.fail(usagef("--restrict %q: expected auto, none, survivors, cycles or recurrent", *restrict))
+			}
+			if *eigs < 1 || *points < 1 {
+				return e.fail(usagef("--eigs and --points must be at least 1"))
+			}
+			if !(*tol > 0 && *tol < 1) {
+				return e.fail(usagef("--tol %g: expected a number in (0, 1)", *tol))
+			}
+			if math.IsNaN(*beta) || math.IsInf(*beta, 0) {
+				return e.fail(usagef("--beta: expected a finite number"))
+			}
+			s, err := openSystem(args, params)
+			if err != nil {
+				return e.fail(err)
+			}
+			runs, err := parseRuns(*cells, *grids, s.Dim())
+			if err != nil {
+				return e.fail(err)
+			}
+			switch {
+			case q == dynsys.Mean && !s.HasObservable():
+				return e.fail(usagef("--quantity mean: system %s defines no observable", s.Name))
+			case (q == dynsys.Lyapunov || q == dynsys.Dimension) && s.Dim() != 1:
+				return e.fail(usagef("--quantity %s: defined for 1D maps only (%s has dimension %d)", q, s.Name, s.Dim()))
+			case (q == dynsys.Pressure || q == dynsys.Eigenvalues) && *beta != 0 && !s.HasObservable():
+				return e.fail(usagef("--beta: system %s defines no observable to weight", s.Name))
+			}
+			disc, err := parseDiscretization(*basis, *degree)
+			if err != nil {
+				return e.fail(err)
+			}
+			progress := !*quiet && isTerminal(e.stderr)
+			report := ulamReport{System: s.Name, Quantity: string(q), Beta: *beta}
+			if !disc.plain() {
+				if *export != "" || *grids != "" {
+					return e.fail(usagef("--export and --grid apply to the plain Ulam matrix (--degree 0, --basis cells)"))
+				}
+				report.Basis = disc.String()
+				var last galerkin.Result
+				for i, r := range runs {
+					sv := &ulam.SolveSettings{Eigenvalues: *eigs, Tol: *tol, Density: *density != "" && i == len(runs)-1}
+					run, res, err := runGalerkin(s, q, disc, r.cells, *beta, sv)
+					if err != nil {
+						return e.fail(err)
+					}
+					report.Runs = append(report.Runs, run)
+					last = res
+				}
+				if *density != "" {
+					if err := writeGalerkinDensity(*density, s, last); err != nil {
+						return e.fail(err)
+					}
+				}
+				return writeUlamReport(e, report, *format, *eigs)
+			}
+			var last ulam.Result
+			for i, r := range runs {
+				set := &ulam.Settings{Cells: r.cells, Shape: r.shape, Points: *points, Beta: *beta, Restrict: restriction}
+				sv := &ulam.SolveSettings{Eigenvalues: *eigs, Tol: *tol, Density: *density != "" && i == len(runs)-1}
+				if progress {
+					fmt.Fprintf(e.stderr, "%s: grid %s ...", e.cmd, r.label(s))
+				}
+				start := time.Now()
+				res, err := ulam.Compute(s, q, set, sv)
+				elapsed := time.Since(start).Seconds()
+				if progress {
+					fmt.Fprintf(e.stderr, " %.3g s\n", elapsed)
+				}
+				if err != nil {
+					return e.fail(&numericalError{err})
+				}
+				report.Runs = append(report.Runs, newUlamRun(res, elapsed))
+				last = res
+			}
+			if *export != "" {
+				if err := exportMatrix(*export, last.Matrix, s, q, *beta); err != nil {
+					return e.fail(err)
+				}
+			}
+			if *density != "" {
+				if err := writeDensity(*density, last); err != nil {
+					return e.fail(err)
+				}
+			}
+			return writeUlamReport(e, report, *format, *eigs)
+		}
+	},
+}
+
+func writeUlamReport(e *env, report ulamReport, format string, eigs int) int {
+	if format == formatJSON {
+		if err := writeJSON(e.stdout, report); err != nil {
+			return e.fail(err)
+		}
+		return exitOK
+	}
+	if err := report.grid(eigs).render(e.stdout, format); err != nil {
+		return e.fail(err)
+	}
+	return exitOK
+}
+
+// writeGalerkinDensity writes the leading density of a higher-order basis
+// at 1000 equally spaced points.
+func writeGalerkinDensity(path string, s *dynsys.System, res galerkin.Result) error {
+	if res.Density == nil {
+		return &numericalError{fmt.Errorf("no density was computed")}
+	}
+	f, err := os.Create(path)
+	if err != nil {
+		return usagef("--density: %v", err)
+	}
+	w := bufio.NewWriter(f)
+	fmt.Fprintf(w, "%s,density\n", s.Vars[0])
+	const points = 1000
+	for i := range points {
+		x := s.Lo[0] + (float64(i)+0.5)/points*(s.Hi[0]-s.Lo[0])
+		fmt.Fprintf(w, "%s,%s\n", strconv.FormatFloat(x, 'g', -1, 64), strconv.FormatFloat(res.Density.At(x), 'g', -1, 64))
+	}
+	werr := w.Flush()
+	if cerr := f.Close(); werr == nil {
+		werr = cerr
+	}
+	if werr != nil {
+		return usagef("--density: %v", werr)
+	}
+	return nil
+}
+
+func quantityNames() string {
+	names := make([]string, len(dynsys.Quantities))
+	for i, q := range dynsys.Quantities {
+		names[i] = string(q)
+	}
+	return strings.Join(names, ", ")
+}
+
+// ulamRun is one grid of the --cells list: a cell count or an exact shape.
+type ulamRun struct {
+	cells int
+	shape []int
+}
+
+func (r ulamRun) label(s *dynsys.System) string {
+	if r.shape == nil {
+		return fmt.Sprintf("%d cells", r.cells)
+	}
+	parts := make([]string, len(r.shape))
+	for i, m := range r.shape {
+		parts[i] = strconv.Itoa(m)
+	}
+	return strings.Join(parts, "x")
+}
+
+// parseRuns reads --cells (a list of counts) or --grid (a list of shapes
+// M1xM2x…, one count a dimension).
+func parseRuns(cells, grids string, dim int) ([]ulamRun, error) {
+	var runs []ulamRun
+	if grids != "" {
+		for _, g := range strings.Split(grids, ",") {
+			parts := strings.Split(strings.TrimSpace(g), "x")
+			if len(parts) != dim {
+				return nil, usagef("--grid %q: expected %d counts separated by x for a %d-dimensional system", g, dim, dim)
+			}
+			shape := make([]int, dim)
+			for i, p := range parts {
+				m, err := strconv.Atoi(p)
+				if err != nil || m < 1 {
+					return nil, usagef("--grid %q: %q is not a positive count", g, p)
+				}
+				shape[i] = m
+			}
+			runs = append(runs, ulamRun{shape: shape})
+		}
+		return runs, nil
+	}
+	for _, c := range strings.Split(cells, ",") {
+		n, err := strconv.Atoi(strings.TrimSpace(c))
+		if err != nil || n < 1 {
+			return nil, usagef("--cells %q: expected positive cell counts separated by commas", cells)
+		}
+		runs = append(runs, ulamRun{cells: n})
+	}
+	return runs, nil
+}
+
+// ulamReport is the JSON document of DESIGN.md section 6.
+type ulamReport struct {
+	System   string        `json:"system"`
+	Quantity string        `json:"quantity"`
+	Basis    string        `json:"basis,omitempty"`
+	Beta     float64       `json:"beta"`
+	Runs     []ulamRunJSON `json:"runs"`
+}
+
+type ulamRunJSON struct {
+	Cells          int           `json:"cells"`
+	GridCells      int           `json:"grid_cells"`
+	Shape          []int         `json:"shape"`
+	NNZ            int           `json:"nnz"`
+	Eigenvalues    []jsonComplex `json:"eigenvalues"`
+	Residuals      []float64     `json:"residuals"`
+	Value          float64       `json:"value"`
+	Seconds        float64       `json:"seconds"`
+	MatVecs        int           `json:"matvecs"`
+	ExcludedLength float64       `json:"excluded_length"`
+}
+
+func newUlamRun(res ulam.Result, seconds float64) ulamRunJSON {
+	m := res.Matrix
+	run := ulamRunJSON{
+		Cells:          m.Dim(),
+		GridCells:      m.GridCells,
+		Shape:          m.Grid.Shape,
+		NNZ:            m.NNZ(),
+		Residuals:      res.Residuals,
+		Value:          res.Value,
+		Seconds:        seconds,
+		MatVecs:        res.Stats.MatVecs,
+		ExcludedLength: m.ExcludedLength,
+	}
+	for _, z := range res.Eigenvalues {
+		run.Eigenvalues = append(run.Eigenvalues, jsonComplex{real(z), imag(z)})
+	}
+	return run
+}
+
+// grid lays the runs out as a table; seconds are left to the JSON output
+// so that the tables of two runs compare equal.
+func (r ulamReport) grid(eigs int) *grid {
+	header := []string{"grid cells", "cells kept", "nonzeros", r.Quantity}
+	if r.Basis != "" {
+		header[0], header[1] = "cells or points", "matrix size"
+	}
+	for k := range eigs {
+		header = append(header, fmt.Sprintf("eigenvalue %d", k))
+	}
+	g := &grid{header: header}
+	for _, run := range r.Runs {
+		row := []string{strconv.Itoa(run.GridCells), strconv.Itoa(run.Cells), strconv.Itoa(run.NNZ), fmt.Sprintf("%.12g", run.Value)}
+		for k := range eigs {
+			cell := ""
+			if k < len(run.Eigenvalues) {
+				cell = complexText(complex(run.Eigenvalues[k].Re, run.Eigenvalues[k].Im))
+			}
+			row = append(row, cell)
+		}
+		g.add(row...)
+	}
+	return g
+}
+
+func exportMatrix(path string, m *ulam.Matrix, s *dynsys.System, q dynsys.Quantity, beta float64) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return usagef("--export: %v", err)
+	}
+	werr := m.WriteMatrixMarket(f, fmt.Sprintf("system %s, quantity %s, beta %g", s.Name, q, beta))
+	if cerr := f.Close(); werr == nil {
+		werr = cerr
+	}
+	if werr != nil {
+		return usagef("--export: %v", werr)
+	}
+	return nil
+}
+
+// writeDensity writes the leading density: one line a kept cell, its
+// centre's coordinates and the density.
+func writeDensity(path string, res ulam.Result) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return usagef("--density: %v", err)
+	}
+	w := bufio.NewWriter(f)
+	m := res.Matrix
+	d := m.Grid.Dim()
+	for k := range d {
+		fmt.Fprintf(w, "x%d,", k+1)
+	}
+	fmt.Fprintln(w, "density")
+	centre := make([]float64, d)
+	for i, cell := range m.Cells {
+		m.Grid.CenterTo(centre, cell)
+		for _, c := range centre {
+			w.WriteString(strconv.FormatFloat(c, 'g', -1, 64))
+			w.WriteByte(',')
+		}
+		w.WriteString(strconv.FormatFloat(res.Density[i], 'g', -1, 64))
+		w.WriteByte('\n')
+	}
+	werr := w.Flush()
+	if cerr := f.Close(); werr == nil {
+		werr = cerr
+	}
+	if werr != nil {
+		return usagef("--density: %v", werr)
+	}
+	return nil
+}

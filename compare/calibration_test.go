@@ -1,0 +1,132 @@
+package compare_test
+
+import (
+	"context"
+	"fmt"
+	"testing"
+
+	"crosspec/compare"
+	"crosspec/cycles"
+	"crosspec/dynsys"
+	"crosspec/ulam"
+)
+
+// calibrationCase is one catalog system and quantity with a value known
+// from outside the project; the source is the catalog entry's reference
+// (dynsys/catalog/*.toml, ../shared/REFERENCES.md).
+type calibrationCase struct {
+	system   string
+	quantity dynsys.Quantity
+	index    int // eigenvalue index for Eigenvalues
+	ulam     bool
+	cycles   bool
+	maxLen   int
+}
+
+// calibrationCases lists every catalog system and quantity with a known
+// value that a path can compute. The cycles path is left out where it
+// cannot run: the Gauss map has infinitely many laps (more symbols than a
+// cycle search takes) and the Hénon attractor's cycle expansion is not the
+// subject of a known value here.
+var calibrationCases = []calibrationCase{
+	{system: "skew-tent-repeller", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 10},
+	{system: "cantor", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 10},
+	{system: "cantor", quantity: dynsys.Dimension, ulam: true, cycles: true, maxLen: 10},
+	{system: "doubling", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 10},
+	{system: "doubling", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 10},
+	{system: "tent", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 10},
+	{system: "tent", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 10},
+	{system: "logistic4", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 12},
+	{system: "logistic4", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 12},
+	{system: "gauss", quantity: dynsys.Lyapunov, ulam: true},
+	{system: "gauss", quantity: dynsys.Mean, ulam: true},
+	{system: "henon", quantity: dynsys.Eigenvalues, ulam: true},
+}
+
+func knownValue(t *testing.T, s *dynsys.System, c calibrationCase) (float64, string) {
+	t.Helper()
+	for _, r := range s.Known(c.quantity) {
+		if c.quantity != dynsys.Eigenvalues || r.Index == c.index {
+			return r.Value, r.Source
+		}
+	}
+	t.Fatalf("%s: no known value of %s in the catalog", c.system, c.quantity)
+	return 0, ""
+}
+
+// TestCalibration runs both paths on every catalog system with a known
+// value and checks the error bars compare reports: each must contain the
+// true value and be at most compare.MaxOverstatement = 100 times the true
+// error (the true error floored at compare.TrueErrorFloor, since a path that
+// is exact to round-off cannot be asked for a bar of zero). The coverage
+// table is printed with -v. The values and their sources are the catalog's
+// references (dynsys/catalog/*.toml).
+func TestCalibration(t *testing.T) {
+	if testing.Short() {
+		t.Skip("runs both paths on the whole catalog")
+	}
+	cells := []int{1 << 10, 1 << 11, 1 << 12, 1 << 13, 1 << 14, 1 << 15, 1 << 16, 1 << 17, 1 << 18}
+	var cases []compare.Case
+	for _, c := range calibrationCases {
+		s, err := dynsys.Lookup(c.system, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		truth, source := knownValue(t, s, c)
+		if c.ulam {
+			runCells := cells
+			switch {
+			case s.Dim() > 1:
+				runCells = cells[:8]
+			case c.system == "gauss":
+				// Exact Ulam for the Gauss map has about 2 N^1.5 nonzeros
+				// (its rows near 0 are dense), so it stops at 2^14.
+				runCells = cells[:5]
+			}
+			var values []float64
+			for _, n := range runCells {
+				res, err := ulam.Compute(s, c.quantity, &ulam.Settings{Cells: n}, nil)
+				if err != nil {
+					t.Fatalf("%s %s ulam at %d cells: %v", c.system, c.quantity, n, err)
+				}
+				values = append(values, res.Value)
+			}
+			est := compare.Ulam(runCells, values, nil)
+			cases = append(cases, compare.Case{Label: fmt.Sprintf("%s %s ulam (%s)", c.system, c.quantity, source), Truth: truth, Estimate: est})
+		}
+		if c.cycles {
+			found, err := cycles.Search(context.Background(), s, &cycles.SearchSettings{MaxLen: c.maxLen})
+			if err != nil {
+				t.Fatalf("%s: cycle search: %v", c.system, err)
+			}
+			res, err := cycles.Expand(found.Cycles, c.quantity, &cycles.Settings{MaxLen: c.maxLen})
+			if err != nil {
+				t.Fatalf("%s %s: expansion: %v", c.system, c.quantity, err)
+			}
+			var orders []int
+			var values []float64
+			for _, o := range res.Orders {
+				orders = append(orders, o.MaxLen)
+				values = append(values, o.Value)
+			}
+			est := compare.Cycles(orders, values, nil)
+			cases = append(cases, compare.Case{Label: fmt.Sprintf("%s %s cycles (%s)", c.system, c.quantity, source), Truth: truth, Estimate: est})
+		}
+	}
+	cov := compare.Calibrate(cases)
+	t.Logf("coverage of the reported error bars on the catalog:\n%s", cov)
+	for _, row := range cov.Rows {
+		if !row.Covered {
+			t.Errorf("%s: error bar %.3g does not contain the true value (true error %.3g, status %s)", row.Label, row.Error, row.TrueError, row.Status)
+		} else if row.Ratio > compare.MaxOverstatement {
+			t.Errorf("%s: error bar %.3g is %.3g times the true error %.3g (status %s)", row.Label, row.Error, row.Ratio, row.TrueError, row.Status)
+		}
+	}
+	systems := map[string]bool{}
+	for _, c := range calibrationCases {
+		systems[c.system+" "+string(c.quantity)] = true
+	}
+	if len(systems) < 6 {
+		t.Errorf("calibration covers %d systems and quantities, want at least 6", len(systems))
+	}
+}

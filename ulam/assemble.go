@@ -1,0 +1,107 @@
+package ulam
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"crosspec/dynsys"
+)
+
+// Settings controls Assemble and Compute. The zero value, or a nil
+// *Settings, means the defaults given beside each field.
+type Settings struct {
+	// Cells is the number of cells of the grid. Default 1024. In d ≥ 2
+	// dimensions the grid has about Cells cells shaped as close to cubes
+	// as the domain allows (ShapeFor), unless Shape is given.
+	Cells int
+	// Shape sets the cells per dimension exactly. Default nil (from Cells).
+	Shape []int
+	// Points is the number of test points per cell in d ≥ 2 dimensions,
+	// placed on a tensor grid of q^d points at the centres of a q×…×q
+	// subdivision of the cell, q = round(Points^(1/d)) (at least 1).
+	// Default 16.
+	Points int
+	// Observable is the a(x) of the weight w = exp(β a). Default
+	// NoObservable (w = 1).
+	Observable Observable
+	// Beta is β. Default 0.
+	Beta float64
+	// Derivative asks for the matrix dP/dβ (entries ∫ a w) beside P.
+	// Default false.
+	Derivative bool
+	// Restrict chooses the cells kept. Default RestrictAuto.
+	Restrict Restriction
+	// Laps controls the lap scan of a 1D map. Default nil (dynsys's
+	// defaults: laps narrower than 1e-9 of the domain are left out).
+	Laps *dynsys.LapSettings
+	// Quadrature is the number of Gauss–Legendre nodes per preimage piece
+	// for a non-constant weight (1D). Default 8.
+	Quadrature int
+}
+
+func (s *Settings) withDefaults() Settings {
+	var out Settings
+	if s != nil {
+		out = *s
+	}
+	if out.Cells <= 0 {
+		out.Cells = 1024
+	}
+	if out.Points <= 0 {
+		out.Points = 16
+	}
+	if out.Quadrature <= 0 {
+		out.Quadrature = 8
+	}
+	return out
+}
+
+// ErrTooLarge is returned when a grid would not fit in memory indices.
+var ErrTooLarge = errors.New("ulam: grid too large")
+
+// Assemble builds the Ulam transfer matrix of sys (see Matrix for the
+// convention), restricted as Settings.Restrict says. A 1D map is assembled
+// exactly from its laps; a d-dimensional one by test points.
+func Assemble(sys *dynsys.System, settings *Settings) (*Matrix, error) {
+	set := settings.withDefaults()
+	g, err := gridFor(sys, &set)
+	if err != nil {
+		return nil, err
+	}
+	wt, err := newWeight(sys, set.Observable, set.Beta, set.Derivative)
+	if err != nil {
+		return nil, err
+	}
+	var m *Matrix
+	if sys.Dim() == 1 {
+		m, err = assemble1D(sys, g, wt, &set)
+	} else {
+		m, err = assembleSampled(sys, g, wt, &set)
+	}
+	if err != nil {
+		return nil, err
+	}
+	return m.Restrict(set.Restrict, sys.Closed), nil
+}
+
+func gridFor(sys *dynsys.System, set *Settings) (Grid, error) {
+	shape := set.Shape
+	if shape == nil {
+		shape = ShapeFor(sys.Lo, sys.Hi, set.Cells)
+	}
+	if len(shape) != sys.Dim() {
+		return Grid{}, fmt.Errorf("ulam: grid of %d dimensions for the %d-dimensional system %s", len(shape), sys.Dim(), sys.Name)
+	}
+	total := 1.0
+	for _, m := range shape {
+		if m < 1 {
+			return Grid{}, fmt.Errorf("ulam: grid shape %v: counts must be positive", shape)
+		}
+		total *= float64(m)
+	}
+	if total > math.MaxInt32 {
+		return Grid{}, fmt.Errorf("%w: %v is %.3g cells", ErrTooLarge, shape, total)
+	}
+	return NewGrid(sys.Lo, sys.Hi, shape), nil
+}

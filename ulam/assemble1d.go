@@ -1,0 +1,686 @@
+package ulam
+
+import (
+	"math"
+	"runtime"
+	"slices"
+
+	"gonum.org/v1/gonum/integrate/quad"
+
+	"crosspec/dynsys"
+)
+
+// blockCells is the number of source cells per block of the 1D assembly:
+// fixed, so the matrix is the same whatever the number of goroutines.
+const blockCells = 1 << 9
+
+// chebyshevNodes is the number of Chebyshev nodes on which the pushforward
+// of a lap narrower than a cell is interpolated (see narrowGroup).
+const chebyshevNodes = 16
+
+// piece is the part of a lap inside one block whose image lies in the
+// domain: x in [lo, hi], f(lo) = ylo, f(hi) = yhi.
+type piece struct {
+	lap      int
+	lo, hi   float64
+	ylo, yhi float64
+}
+
+// narrowGroup is a run of consecutive laps that lie inside one source cell
+// and share their image [c, d]. Their contribution to the cell's row is
+// P_ij = (1/h) ∫_{B_j ∩ [c,d]} Σ_l w(x_l(y)) |x_l'(y)| dy with x_l the
+// inverse branch of lap l: the integrand is interpolated at Chebyshev nodes
+// of [c, d] (inverse branches computed to full precision), summed over the
+// laps, and its antiderivative evaluated at the target edges. This replaces
+// N+1 root finds per lap by chebyshevNodes, and is exact to the
+// interpolation error, negligible for laps that are smooth and narrow
+// (the Gauss map's laps near 0 are the branches 1/(k+y), analytic in a
+// Bernstein ellipse of parameter ≈ 2k).
+type narrowGroup struct {
+	cell       int
+	first, end int // laps[first:end]
+	c, d       float64
+}
+
+// item is a piece or a narrow group, in the order of x.
+type item struct {
+	x     float64
+	piece *piece
+	group *narrowGroup
+}
+
+type block1D struct {
+	i0, i1 int
+	items  []item
+	bound  int // upper bound on its entries
+	offset int // start of its slot in the entry arrays
+}
+
+// assemble1D builds the exact Ulam matrix of a 1D map on the grid g.
+func assemble1D(sys *dynsys.System, g Grid, wt weight, set *Settings) (*Matrix, error) {
+	ls, err := sys.Laps(set.Laps)
+	if err != nil {
+		return nil, err
+	}
+	n := g.Shape[0]
+	lo, hi := g.Lo[0], g.Hi[0]
+	laps := ls.Laps
+
+	// Classify the laps: one inside a single cell is narrow.
+	cellLeft := func(x float64) int { return g.firstEdgeAbove(x) - 1 } // cell containing x from the right
+	cellRight := func(x float64) int { return g.lastEdgeBelow(x) }     // cell containing x from the left
+	blocks := make([]block1D, (n+blockCells-1)/blockCells)
+	for b := range blocks {
+		blocks[b].i0, blocks[b].i1 = b*blockCells, min((b+1)*blockCells, n)
+	}
+	blockOf := func(cell int) int { return cell / blockCells }
+	for li := 0; li < len(laps); li++ {
+		l := laps[li]
+		if c := cellLeft(l.Lo); c == cellRight(l.Hi) && c >= 0 && c < n {
+			// A run of narrow laps in cell c with the same image.
+			end := li + 1
+			for end < len(laps) && cellLeft(laps[end].Lo) == c && cellRight(laps[end].Hi) == c &&
+				laps[end].ImageLo() == l.ImageLo() && laps[end].ImageHi() == l.ImageHi() {
+				end++
+			}
+			grp := &narrowGroup{cell: c, first: li, end: end, c: l.ImageLo(), d: l.ImageHi()}
+			ya, yb := max(grp.c, lo), min(grp.d, hi)
+			if yb > ya {
+				blk := &blocks[blockOf(c)]
+				blk.items = append(blk.items, item{x: l.Lo, group: grp})
+				blk.bound += max(0, g.lastEdgeBelow(yb)-g.firstEdgeAbove(ya)+1) + 1
+			}
+			li = end - 1
+			continue
+		}
+		// A wide lap: clip it to the part whose image lies in the domain.
+		xa, ya, xb, yb, ok := clipToDomain(sys, l, lo, hi)
+		if !ok {
+			continue
+		}
+		for b := blockOf(max(cellLeft(xa), 0)); b < len(blocks); b++ {
+			x0, x1 := g.Edge(0, blocks[b].i0), g.Edge(0, blocks[b].i1)
+			if x0 >= xb {
+				break
+			}
+			u0, u1 := max(xa, x0), min(xb, x1)
+			if u1 <= u0 {
+				continue
+			}
+			p := &piece{lap: li, lo: u0, hi: u1, ylo: ya, yhi: yb}
+			ymin, ymax := min(ya, yb), max(ya, yb)
+			if u0 != xa {
+				p.ylo = min(max(sys.F(u0), ymin), ymax)
+			}
+			if u1 != xb {
+				p.yhi = min(max(sys.F(u1), ymin), ymax)
+			}
+			pmin, pmax := min(p.ylo, p.yhi), max(p.ylo, p.yhi)
+			edges := max(0, g.lastEdgeBelow(u1)-g.firstEdgeAbove(u0)+1)
+			targets := max(0, g.lastEdgeBelow(pmax)-g.firstEdgeAbove(pmin)+1)
+			blocks[b].items = append(blocks[b].items, item{x: u0, piece: p})
+			blocks[b].bound += edges + targets + 1
+		}
+	}
+	total := 0
+	for b := range blocks {
+		blk := &blocks[b]
+		slices.SortStableFunc(blk.items, func(p, q item) int {
+			switch {
+			case p.x < q.x:
+				return -1
+			case p.x > q.x:
+				return 1
+			}
+			return 0
+		})
+		blk.offset = total
+		total += blk.bound
+	}
+
+	rowPtr := make([]int, n+1)
+	col := make([]int, total)
+	val := make([]float64, total)
+	var deriv []float64
+	if wt.deriv {
+		deriv = make([]float64, total)
+	}
+	nq := set.Quadrature
+	qx, qw := make([]float64, nq), make([]float64, nq)
+	quad.Legendre{}.FixedLocations(qx, qw, -1, 1)
+
+	cells := make([]int, n)
+	// Each block writes its entries into its slot, sorts and merges them
+	// there, and then moves them down to close the gaps left by the
+	// blocks before it: in block order, so that a move never overwrites
+	// entries still to be moved. ends[b] is where block b's entries end
+	// once moved; done[b] is closed when ends[b] is set.
+	ends := make([]int, len(blocks))
+	done := make([]chan struct{}, len(blocks))
+	for b := range done {
+		done[b] = make(chan struct{})
+	}
+	workers := make([]*assembler1D, runtime.GOMAXPROCS(0))
+	forEachBlock(len(blocks), func(worker, b int) {
+		blk := &blocks[b]
+		a := workers[worker]
+		if a == nil {
+			a = &assembler1D{
+				sys: sys, g: g, laps: laps, wt: wt.clone(),
+				col: col, val: val, deriv: deriv, rowCount: rowPtr[1:],
+				qx: qx, qw: qw, obsBuf: make([]float64, 1),
+				solver: newSolver1D(sys), widthRow: -1,
+			}
+			workers[worker] = a
+		}
+		a.pos = blk.offset
+		for _, it := range blk.items {
+			if it.piece != nil {
+				a.sweep(it.piece)
+			} else {
+				a.narrow(it.group)
+			}
+		}
+		count := mergeRows(col, val, deriv, rowPtr[1:], blk.i0, blk.i1, blk.offset)
+		for i := blk.i0; i < blk.i1; i++ {
+			cells[i] = i
+		}
+		start := 0
+		if b > 0 {
+			<-done[b-1]
+			start = ends[b-1]
+		}
+		if start != blk.offset {
+			copy(col[start:], col[blk.offset:blk.offset+count])
+			copy(val[start:], val[blk.offset:blk.offset+count])
+			if deriv != nil {
+				copy(deriv[start:], deriv[blk.offset:blk.offset+count])
+			}
+		}
+		// Row counts to row pointers.
+		end := start
+		for i := blk.i0; i < blk.i1; i++ {
+			end += rowPtr[i+1]
+			rowPtr[i+1] = end
+		}
+		ends[b] = end
+		close(done[b])
+	})
+	write := 0
+	if len(ends) > 0 {
+		write = ends[len(ends)-1]
+	}
+	m := &Matrix{
+		Grid:           g,
+		Cells:          cells,
+		RowPtr:         rowPtr,
+		Col:            col[:write:write],
+		Val:            val[:write:write],
+		ExcludedLength: ls.ExcludedLength,
+		GridCells:      n,
+	}
+	if deriv != nil {
+		m.Derivative = deriv[:write:write]
+	}
+	if sys.Closed && len(ls.Excluded) > 0 {
+		rescaleExcluded(m, ls.Excluded)
+	}
+	return m, nil
+}
+
+// rescaleExcluded handles the mass of the intervals left out by the lap
+// scan in a closed system: it must land somewhere in the domain, and the
+// best estimate of where is the distribution of the resolved part of the
+// same cell (for the Gauss map both are the images of runs of ever
+// narrower full branches, nearly uniform on [0, 1]). A row whose cell is
+// partly excluded is therefore scaled by m(B_i)/m(B_i \ E). A cell that is
+// wholly excluded keeps an empty row: its mass is lost and ExcludedLength
+// says how much.
+func rescaleExcluded(m *Matrix, excluded []dynsys.Interval) {
+	g := m.Grid
+	h := g.Width(0)
+	overlap := map[int]float64{}
+	for _, e := range excluded {
+		for i := max(g.firstEdgeAbove(e.Lo)-1, 0); i < g.Shape[0] && g.Edge(0, i) < e.Hi; i++ {
+			a, b := max(e.Lo, g.Edge(0, i)), min(e.Hi, g.Edge(0, i+1))
+			if b > a {
+				overlap[i] += b - a
+			}
+		}
+	}
+	for i, o := range overlap {
+		if o >= h {
+			continue
+		}
+		s := h / (h - o)
+		for k := m.RowPtr[i]; k < m.RowPtr[i+1]; k++ {
+			m.Val[k] *= s
+			if m.Derivative != nil {
+				m.Derivative[k] *= s
+			}
+		}
+	}
+}
+
+// clipToDomain returns the part [xa, xb] of the lap whose image lies in
+// [lo, hi], with ya = f(xa) and yb = f(xb); ok is false when the image
+// meets the domain in at most a point.
+func clipToDomain(sys *dynsys.System, l dynsys.Lap, lo, hi float64) (xa, ya, xb, yb float64, ok bool) {
+	if l.ImageHi() <= lo || l.ImageLo() >= hi {
+		return 0, 0, 0, 0, false
+	}
+	xa, ya, xb, yb = l.Lo, l.FLo, l.Hi, l.FHi
+	clip := func(y float64) (float64, bool) { return sys.Preimage(l, y) }
+	if l.Increasing {
+		if l.FLo < lo {
+			xa, ok = clip(lo)
+			ya = lo
+			if !ok {
+				return 0, 0, 0, 0, false
+			}
+		}
+		if l.FHi > hi {
+			xb, ok = clip(hi)
+			yb = hi
+			if !ok {
+				return 0, 0, 0, 0, false
+			}
+		}
+	} else {
+		if l.FLo > hi {
+			xa, ok = clip(hi)
+			ya = hi
+			if !ok {
+				return 0, 0, 0, 0, false
+			}
+		}
+		if l.FHi < lo {
+			xb, ok = clip(lo)
+			yb = lo
+			if !ok {
+				return 0, 0, 0, 0, false
+			}
+		}
+	}
+	return xa, ya, xb, yb, xb > xa
+}
+
+// assembler1D writes the entries of one block into its slot.
+type assembler1D struct {
+	sys      *dynsys.System
+	g        Grid
+	laps     []dynsys.Lap
+	wt       weight
+	col      []int
+	val      []float64
+	deriv    []float64
+	rowCount []int
+	pos      int
+	qx, qw   []float64
+	obsBuf   []float64
+	solver   *solver1D
+	targets  []float64
+	pre      []float64
+	widthRow int // the row whose width is cached in width
+	width    float64
+}
+
+// emit adds the piece [a, b] of source cell i mapped into target cell t.
+func (a *assembler1D) emit(i, t int, x0, x1 float64) {
+	if !(x1 > x0) || t < 0 || t >= a.g.Shape[0] {
+		return
+	}
+	var v, dv float64
+	if i != a.widthRow {
+		a.widthRow, a.width = i, a.g.Edge(0, i+1)-a.g.Edge(0, i)
+	}
+	h := a.width
+	if a.wt.uniform {
+		v = (x1 - x0) / h
+	} else {
+		mid, half := 0.5*(x0+x1), 0.5*(x1-x0)
+		for q, t := range a.qx {
+			x := mid + half*t
+			obs := a.wt.observable1(x, a.obsBuf)
+			w := math.Exp(a.wt.beta * obs)
+			v += a.qw[q] * w
+			dv += a.qw[q] * obs * w
+		}
+		v *= half / h
+		dv *= half / h
+		if a.wt.obs == NoObservable || a.wt.beta == 0 {
+			v = (x1 - x0) / h
+		}
+	}
+	a.col[a.pos] = t
+	a.val[a.pos] = v
+	if a.deriv != nil {
+		a.deriv[a.pos] = dv
+	}
+	a.pos++
+	a.rowCount[i]++
+}
+
+// sweep walks a piece from left to right, cutting it at the source cell
+// edges and at the preimages of the target cell edges.
+func (a *assembler1D) sweep(p *piece) {
+	g := a.g
+	l := a.laps[p.lap]
+	ymin, ymax := min(p.ylo, p.yhi), max(p.ylo, p.yhi)
+	jFirst, jLast := g.firstEdgeAbove(ymin), g.lastEdgeBelow(ymax)
+	m := max(0, jLast-jFirst+1)
+	a.targets = grow(a.targets, m)
+	targets := a.targets[:m]
+	var t, step int
+	if l.Increasing {
+		for k := range targets {
+			targets[k] = g.Edge(0, jFirst+k)
+		}
+		t, step = jFirst-1, 1
+	} else {
+		for k := range targets {
+			targets[k] = g.Edge(0, jLast-k)
+		}
+		t, step = jLast, -1
+	}
+	a.pre = grow(a.pre, m)
+	pre := a.pre[:m]
+	a.solver.preimages(pre, targets, p.lo, p.hi, p.ylo, p.yhi, l)
+	i := g.firstEdgeAbove(p.lo) - 1
+	lastEdge := g.lastEdgeBelow(p.hi)
+	if a.wt.uniform {
+		a.sweepUniform(pre, i, lastEdge, t, step, p.lo, p.hi)
+		return
+	}
+	nextEdge := math.Inf(1)
+	if i+1 <= lastEdge {
+		nextEdge = g.Edge(0, i+1)
+	}
+	pos, k := p.lo, 0
+	for pos < p.hi {
+		next := p.hi
+		if nextEdge < next {
+			next = nextEdge
+		}
+		if k < m && pre[k] < next {
+			next = pre[k]
+		}
+		a.emit(i, t, pos, next)
+		if nextEdge == next {
+			i++
+			nextEdge = math.Inf(1)
+			if i+1 <= lastEdge {
+				nextEdge = g.Edge(0, i+1)
+			}
+		}
+		for k < m && pre[k] <= next {
+			t += step
+			k++
+		}
+		pos = max(pos, next)
+	}
+}
+
+// sweepUniform is sweep's walk for the weight w = 1, where an entry is the
+// length of its piece over the cell width: starting in source cell i and
+// target cell t on [x0, x1], with the source edges up to lastEdge and the
+// preimages pre of the target edges met in the order of t += step.
+func (a *assembler1D) sweepUniform(pre []float64, i, lastEdge, t, step int, x0, x1 float64) {
+	g := a.g
+	n := g.Shape[0]
+	col, val, rowCount := a.col, a.val, a.rowCount
+	w := a.pos
+	edge := func(i int) float64 {
+		if i <= lastEdge {
+			return g.Edge(0, i)
+		}
+		return math.Inf(1)
+	}
+	left := g.Edge(0, max(i, 0))
+	nextEdge := edge(i + 1)
+	invWidth := 1 / (g.Edge(0, i+1) - left)
+	pos, k := x0, 0
+	count := 0
+	for pos < x1 {
+		next := min(x1, nextEdge)
+		if k < len(pre) && pre[k] < next {
+			next = pre[k]
+		}
+		if next > pos && t >= 0 && t < n {
+			col[w] = t
+			val[w] = (next - pos) * invWidth
+			w++
+			count++
+		}
+		if nextEdge == next {
+			rowCount[i] += count
+			count = 0
+			i++
+			left = nextEdge
+			nextEdge = edge(i + 1)
+			if i < n {
+				invWidth = 1 / (g.Edge(0, i+1) - left)
+			}
+		}
+		for k < len(pre) && pre[k] <= next {
+			t += step
+			k++
+		}
+		pos = max(pos, next)
+	}
+	if count > 0 {
+		rowCount[i] += count
+	}
+	a.pos = w
+}
+
+// narrow emits the row entries of a group of narrow laps (see narrowGroup).
+func (a *assembler1D) narrow(grp *narrowGroup) {
+	const p = chebyshevNodes
+	var nodes, theta [p]float64
+	for k := range p {
+		theta[k] = math.Pi * (float64(k) + 0.5) / p
+		nodes[k] = 0.5*(grp.c+grp.d) + 0.5*(grp.d-grp.c)*math.Cos(theta[k])
+	}
+	// nodes decrease with k; sort ascending for the solver.
+	ys := make([]float64, p)
+	for k := range p {
+		ys[k] = nodes[p-1-k]
+	}
+	var coef, dcoef [p + 2]float64
+	xs := make([]float64, p)
+	rev := make([]float64, p)
+	for li := grp.first; li < grp.end; li++ {
+		l := a.laps[li]
+		if l.Increasing {
+			a.solver.preimages(xs, ys, l.Lo, l.Hi, l.FLo, l.FHi, l)
+		} else {
+			for k := range p {
+				rev[k] = ys[p-1-k]
+			}
+			a.solver.preimages(xs, rev, l.Lo, l.Hi, l.FLo, l.FHi, l)
+			slices.Reverse(xs)
+		}
+		// xs[k] is the preimage of ys[k] = nodes[p-1-k].
+		for k := range p {
+			x := xs[p-1-k] // preimage of nodes[k]
+			jac := 1 / math.Abs(a.sys.DF(x))
+			w, aw := 1.0, 0.0
+			if !a.wt.uniform {
+				obs := a.wt.observable1(x, a.obsBuf)
+				w = math.Exp(a.wt.beta * obs)
+				aw = obs * w
+				if a.wt.obs == NoObservable || a.wt.beta == 0 {
+					w = 1
+				}
+			}
+			for n := range p {
+				c := math.Cos(float64(n) * theta[k])
+				coef[n] += w * jac * c
+				dcoef[n] += aw * jac * c
+			}
+		}
+	}
+	scale := 0.5 * (grp.d - grp.c)
+	anti := antiderivative(coef[:], scale)
+	var dAnti []float64
+	if a.deriv != nil {
+		dAnti = antiderivative(dcoef[:], scale)
+	}
+	g := a.g
+	h := g.Edge(0, grp.cell+1) - g.Edge(0, grp.cell)
+	ya, yb := max(grp.c, g.Lo[0]), min(grp.d, g.Hi[0])
+	tOf := func(y float64) float64 { return (2*y - grp.c - grp.d) / (grp.d - grp.c) }
+	prev := ya
+	fPrev := clenshaw(anti, tOf(prev))
+	var dPrev float64
+	if dAnti != nil {
+		dPrev = clenshaw(dAnti, tOf(prev))
+	}
+	for t := g.firstEdgeAbove(ya) - 1; t < g.Shape[0]; t++ {
+		next := min(g.Edge(0, t+1), yb)
+		fNext := clenshaw(anti, tOf(next))
+		v := (fNext - fPrev) / h
+		if v > 0 {
+			a.col[a.pos] = t
+			a.val[a.pos] = v
+			if a.deriv != nil {
+				dNext := clenshaw(dAnti, tOf(next))
+				a.deriv[a.pos] = (dNext - dPrev) / h
+				dPrev = dNext
+			}
+			a.pos++
+			a.rowCount[grp.cell]++
+		} else if dAnti != nil {
+			dPrev = clenshaw(dAnti, tOf(next))
+		}
+		prev, fPrev = next, fNext
+		if next >= yb {
+			break
+		}
+	}
+	_ = prev
+}
+
+// antiderivative turns the sums c_n = Σ_k g(t_k) cos(nθ_k) over p
+// Chebyshev nodes into the Chebyshev coefficients of the antiderivative of
+// the interpolant of g in y = mid + scale·t (constant term zero). With
+// a_n = (2/p) c_n (a_0 = c_0/p) the interpolant is Σ a_n T_n and
+// ∫ Σ a_n T_n dt = Σ_{n≥1} (a'_{n−1} − a_{n+1})/(2n) T_n, a'_0 = 2a_0.
+func antiderivative(c []float64, scale float64) []float64 {
+	p := len(c) - 2
+	a := make([]float64, p+2)
+	for n := range p {
+		a[n] = 2 * c[n] / float64(p)
+	}
+	// a[0] is already the doubled coefficient a'_0 of the formula.
+	out := make([]float64, p+1)
+	for n := 1; n <= p; n++ {
+		out[n] = scale * (a[n-1] - a[n+1]) / float64(2*n)
+	}
+	return out
+}
+
+// clenshaw evaluates Σ_n c_n T_n(t).
+func clenshaw(c []float64, t float64) float64 {
+	var b1, b2 float64
+	for n := len(c) - 1; n >= 1; n-- {
+		b1, b2 = 2*t*b1-b2+c[n], b1
+	}
+	return t*b1 - b2 + c[0]
+}
+
+// mergeRows sorts the entries of rows i0 … i1−1 (contiguous from offset,
+// counted in rowCount) by column, sums duplicates and packs them from
+// offset on. It returns the number of entries kept.
+func mergeRows(col []int, val, deriv []float64, rowCount []int, i0, i1, offset int) int {
+	read, write := offset, offset
+	for i := i0; i < i1; i++ {
+		cnt := rowCount[i]
+		c, v := col[read:read+cnt], val[read:read+cnt]
+		var dv []float64
+		if deriv != nil {
+			dv = deriv[read : read+cnt]
+		}
+		if read == write && increasing(c) {
+			// Sorted, duplicate-free and in place: nothing to do.
+			read += cnt
+			write += cnt
+			continue
+		}
+		if !increasing(c) {
+			if decreasing(c) {
+				slices.Reverse(c)
+				slices.Reverse(v)
+				if dv != nil {
+					slices.Reverse(dv)
+				}
+			} else {
+				sortEntries(c, v, dv)
+			}
+		}
+		// Pack, summing duplicates.
+		kept := 0
+		for k := range cnt {
+			if kept > 0 && col[write+kept-1] == c[k] {
+				val[write+kept-1] += v[k]
+				if dv != nil {
+					deriv[write+kept-1] += dv[k]
+				}
+				continue
+			}
+			col[write+kept] = c[k]
+			val[write+kept] = v[k]
+			if dv != nil {
+				deriv[write+kept] = dv[k]
+			}
+			kept++
+		}
+		rowCount[i] = kept
+		read += cnt
+		write += kept
+	}
+	return write - offset
+}
+
+func increasing(c []int) bool {
+	for k := 1; k < len(c); k++ {
+		if c[k] <= c[k-1] {
+			return false
+		}
+	}
+	return true
+}
+
+func decreasing(c []int) bool {
+	for k := 1; k < len(c); k++ {
+		if c[k] >= c[k-1] {
+			return false
+		}
+	}
+	return true
+}
+
+// sortEntries sorts the entries by column, stably (so that duplicates are
+// summed in emission order, the same on every run).
+func sortEntries(c []int, v, dv []float64) {
+	idx := make([]int, len(c))
+	for k := range idx {
+		idx[k] = k
+	}
+	slices.SortStableFunc(idx, func(p, q int) int { return c[p] - c[q] })
+	c2 := make([]int, len(c))
+	v2 := make([]float64, len(v))
+	for k, p := range idx {
+		c2[k], v2[k] = c[p], v[p]
+	}
+	copy(c, c2)
+	copy(v, v2)
+	if dv != nil {
+		d2 := make([]float64, len(dv))
+		for k, p := range idx {
+			d2[k] = dv[p]
+		}
+		copy(dv, d2)
+	}
+}

@@ -1,0 +1,505 @@
+package galerkin
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"slices"
+
+	"crosspec/dynsys"
+	"crosspec/dynsys/root"
+	"crosspec/ulam"
+	"crosspec/ulam/krylov"
+)
+
+// Basis names the functions the transfer operator is projected on.
+type Basis int
+
+const (
+	// Cells: Legendre polynomials of degree ≤ Degree on each of the cells
+	// (a piecewise-polynomial Galerkin basis; Degree 0 is Ulam's method).
+	Cells Basis = iota
+	// Chebyshev: polynomials of degree < Size on the whole domain, by
+	// collocation at Chebyshev points (analytic full-branch maps).
+	Chebyshev
+)
+
+func (b Basis) String() string {
+	switch b {
+	case Cells:
+		return "cells"
+	case Chebyshev:
+		return "chebyshev"
+	}
+	return fmt.Sprintf("Basis(%d)", int(b))
+}
+
+// ParseBasis returns the basis named s ("cells" or "chebyshev").
+func ParseBasis(s string) (Basis, error) {
+	switch s {
+	case "cells":
+		return Cells, nil
+	case "chebyshev":
+		return Chebyshev, nil
+	}
+	return 0, fmt.Errorf("galerkin: unknown basis %q (known: cells, chebyshev)", s)
+}
+
+// Settings controls the discretization. A nil *Settings or the zero value
+// means the defaults beside each field.
+type Settings struct {
+	// Basis selects the basis. Default Cells.
+	Basis Basis
+	// Cells is the number N of equal cells of the Cells basis. Default 64.
+	Cells int
+	// Edges, if not nil, are the N+1 cell edges of the Cells basis, from
+	// the domain's lower to its upper end, increasing (graded partitions,
+	// see GradedEdges); they override Cells. Default nil.
+	Edges []float64
+	// Degree is the polynomial degree p on each cell. Default 0 (piecewise
+	// constants: Ulam's matrix).
+	Degree int
+	// Size is the number n of Chebyshev points of the Chebyshev basis.
+	// Default 64.
+	Size int
+	// Observable is the a(x) of the weight w = exp(β a). Default
+	// ulam.NoObservable.
+	Observable ulam.Observable
+	// Beta is β. Default 0.
+	Beta float64
+	// Derivative asks for the matrix of dL/dβ (a·w in place of w) beside
+	// the matrix. Default false.
+	Derivative bool
+	// Laps controls the lap scan. Default nil: dynsys's defaults.
+	Laps *dynsys.LapSettings
+	// Quadrature is the number of Gauss–Legendre nodes on each piece of a
+	// cell mapped into one cell (Cells basis). Default Degree + 8, exact for
+	// polynomial integrands of degree 2·Degree + 15.
+	Quadrature int
+	// TailNodes is the number of interpolation nodes of the tail model
+	// for laps accumulating at an end of the domain. Default Degree + 12
+	// (Cells), 24 (Chebyshev).
+	TailNodes int
+	// TailStart is the number of accumulating laps summed exactly before
+	// the tail model takes over (Chebyshev basis; the Cells basis models
+	// every lap inside the end cell). Default 64.
+	TailStart int
+}
+
+func (s *Settings) withDefaults() Settings {
+	var out Settings
+	if s != nil {
+		out = *s
+	}
+	if out.Cells <= 0 {
+		out.Cells = 64
+	}
+	if out.Degree < 0 {
+		out.Degree = 0
+	}
+	if out.Size <= 1 {
+		out.Size = 64
+	}
+	if out.Quadrature <= 0 {
+		out.Quadrature = out.Degree + 8
+	}
+	if out.TailNodes <= 0 {
+		out.TailNodes = out.Degree + 12
+		if out.Basis == Chebyshev {
+			out.TailNodes = 24
+		}
+	}
+	if out.TailStart <= 0 {
+		out.TailStart = 64
+	}
+	return out
+}
+
+// Operator is a discretized transfer operator: CellMatrix or
+// ChebyshevMatrix.
+type Operator interface {
+	krylov.Operator
+	// NNZ returns the number of stored entries.
+	NNZ() int
+	// ApplyDerivative sets dst = (d/dβ) of the matrix times x.
+	ApplyDerivative(dst, x []float64)
+}
+
+// Assemble builds the matrix of the settings' basis.
+func Assemble(sys *dynsys.System, settings *Settings) (Operator, error) {
+	set := settings.withDefaults()
+	switch set.Basis {
+	case Cells:
+		return AssembleCells(sys, &set)
+	case Chebyshev:
+		return AssembleChebyshev(sys, &set)
+	}
+	panic(fmt.Sprintf("galerkin: unknown basis %d", int(set.Basis)))
+}
+
+// Density is the (conditionally) invariant density found by Compute,
+// normalised to integral 1.
+type Density struct {
+	// Edges and Coef describe it on the Cells basis: on cell j it is
+	// Σ_b Coef[j(p+1)+b] φ_{j,b}.
+	Edges  []float64
+	Degree int
+	Coef   []float64
+	// Points and Values describe it on the Chebyshev basis: the values at
+	// the points, interpolated by the barycentric formula.
+	Points, Values []float64
+	bw             []float64
+}
+
+// At returns the density at x in the domain.
+func (d *Density) At(x float64) float64 {
+	if d.Points != nil {
+		ell := make([]float64, len(d.Points))
+		lagrangeTo(ell, d.Points, d.bw, x)
+		var s float64
+		for k, v := range ell {
+			s += v * d.Values[k]
+		}
+		return s
+	}
+	j := cellOf(d.Edges, x)
+	nb := d.Degree + 1
+	h := d.Edges[j+1] - d.Edges[j]
+	basis := make([]float64, nb)
+	legendreTo(basis, 2*(x-d.Edges[j])/h-1, h)
+	var s float64
+	for b := range nb {
+		s += d.Coef[j*nb+b] * basis[b]
+	}
+	return s
+}
+
+// Result is what Compute returns.
+type Result struct {
+	// Quantity is what Value estimates.
+	Quantity dynsys.Quantity
+	// Value is the estimate of Quantity.
+	Value float64
+	// Eigenvalues are the leading eigenvalues of the matrix (at the
+	// quantity's weight), by decreasing modulus, a complex pair adjacent.
+	Eigenvalues []complex128
+	// Residuals are their relative residuals.
+	Residuals []float64
+	// Basis, Dim and NNZ describe the matrix (for the dimension, the one at
+	// the root).
+	Basis Basis
+	Dim   int
+	NNZ   int
+	// Matrix is that matrix: *CellMatrix or *ChebyshevMatrix.
+	Matrix Operator
+	// Derivative is dλ_0/dβ for mean and lyapunov; zero otherwise.
+	Derivative float64
+	// Density is the leading eigenfunction of the transfer operator,
+	// normalised to integral 1; nil unless the quantity needs the leading
+	// eigenvectors or ulam.SolveSettings.Density is set.
+	Density *Density
+	// Assemblies counts the matrices built.
+	Assemblies int
+	// Stats sums the work of all eigen-solves.
+	Stats krylov.Stats
+	// Status is krylov.Converged when every solve converged.
+	Status krylov.Status
+}
+
+// ErrLeading is returned when the eigenvalue of largest modulus is not
+// real and positive, as the leading eigenvalue of a positive operator must
+// be: a sign that the basis is too coarse for the map.
+// ErrLogTail is returned for the Lyapunov exponent (or the dimension)
+// of a map whose laps accumulate: ln |f'| diverges at the accumulation
+// point, and the tail model, which assumes contributions analytic in 1/n,
+// does not hold for it.
+var ErrLogTail = errors.New("galerkin: ln |f'| diverges where the laps accumulate; the tail model does not treat it")
+
+var ErrLeading = errors.New("galerkin: the eigenvalue of largest modulus is not real and positive")
+
+// Compute estimates quantity q of the 1D map sys with the basis of
+// settings, as ulam.Compute does with Ulam's matrix (DESIGN.md section 4):
+// eigenvalues and pressure at the weight exp(β a) with a the system's
+// observable; escape rate −ln λ_0; mean d ln λ_0/dβ = ⟨u, M' v⟩/(λ_0⟨u, v⟩)
+// with u, v the left and right leading eigenvectors of the matrix M and
+// M' = dM/dβ; lyapunov the same with a = ln |f'|; dimension the root s of
+// λ_0 = 1 for the weight |f'|^(1−s) (Brent's method on [0, 1]); decay rate
+// −ln |λ_1/λ_0|. The leading eigenvalue is checked to be real and
+// positive (ErrLeading) for every quantity but the eigenvalues.
+func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *ulam.SolveSettings) (Result, error) {
+	set := settings.withDefaults()
+	var sv ulam.SolveSettings
+	if solve != nil {
+		sv = *solve
+	}
+	if sv.Eigenvalues <= 0 {
+		sv.Eigenvalues = 1
+	}
+	if q == dynsys.DecayRate && sv.Eigenvalues < 2 {
+		sv.Eigenvalues = 2
+	}
+	res := Result{Quantity: q, Basis: set.Basis, Status: krylov.Converged}
+	if sys.Dim() != 1 {
+		return res, fmt.Errorf("galerkin: %s has dimension %d; the Galerkin bases are for 1D maps", sys.Name, sys.Dim())
+	}
+	needPair := sv.Density
+	switch q {
+	case dynsys.Eigenvalues, dynsys.Pressure, dynsys.DecayRate:
+		if sys.HasObservable() && set.Beta != 0 {
+			set.Observable = ulam.SystemObservable
+		}
+	case dynsys.EscapeRate:
+		set.Observable, set.Beta = ulam.NoObservable, 0
+	case dynsys.Mean:
+		if !sys.HasObservable() {
+			return res, fmt.Errorf("galerkin: the mean needs an observable, and system %s defines none", sys.Name)
+		}
+		set.Observable, set.Derivative = ulam.SystemObservable, true
+		needPair = true
+	case dynsys.Lyapunov:
+		set.Observable, set.Derivative = ulam.LogExpansion, true
+		needPair = true
+	case dynsys.Dimension:
+		return computeDimension(sys, set, sv, res)
+	default:
+		return res, fmt.Errorf("galerkin: unknown quantity %q", q)
+	}
+	m, err := Assemble(sys, &set)
+	if err != nil {
+		return res, err
+	}
+	res.setMatrix(m)
+	res.Assemblies = 1
+	if set.Observable == ulam.LogExpansion && tailLaps(m) > 0 {
+		return res, ErrLogTail
+	}
+	if err := res.eigen(m, sv); err != nil {
+		return res, err
+	}
+	lambda0 := res.Eigenvalues[0]
+	if q != dynsys.Eigenvalues && (imag(lambda0) != 0 || !(real(lambda0) > 0)) {
+		return res, fmt.Errorf("%w: %s: %v", ErrLeading, sys.Name, lambda0)
+	}
+	switch q {
+	case dynsys.Eigenvalues:
+		res.Value = real(lambda0)
+	case dynsys.EscapeRate:
+		res.Value = -math.Log(real(lambda0))
+	case dynsys.Pressure:
+		res.Value = math.Log(real(lambda0))
+	case dynsys.DecayRate:
+		res.Value = -math.Log(cmplx.Abs(res.Eigenvalues[1]) / cmplx.Abs(lambda0))
+	}
+	if needPair {
+		if err := res.leading(m, sv, set); err != nil {
+			return res, err
+		}
+		if q == dynsys.Mean || q == dynsys.Lyapunov {
+			res.Value = res.Derivative / real(lambda0)
+		}
+	}
+	return res, nil
+}
+
+func (res *Result) setMatrix(m Operator) {
+	res.Matrix, res.Dim, res.NNZ = m, m.Dim(), m.NNZ()
+}
+
+// denseLimit is the matrix size up to which the eigenvalues are found
+// densely (krylov.Settings.Dense, gonum's mat.Eigen): for p > 0 the
+// subleading eigenvalues are ill-conditioned (the basis mixes smooth
+// modes with jumps at the cell edges), and a dense solve errs by
+// condition·ε rather than condition·Tol.
+const denseLimit = 1200
+
+func krylovSettings(sv ulam.SolveSettings, k, n int) *krylov.Settings {
+	return &krylov.Settings{Wanted: k, Tol: sv.Tol, SubspaceSize: sv.SubspaceSize, MaxRestarts: sv.MaxRestarts, Dense: n <= denseLimit}
+}
+
+func tailLaps(m Operator) int {
+	switch m := m.(type) {
+	case *CellMatrix:
+		return m.TailLaps
+	case *ChebyshevMatrix:
+		return m.TailLaps
+	}
+	return 0
+}
+
+// eigen computes the leading eigenvalues of m into res.
+func (res *Result) eigen(m Operator, sv ulam.SolveSettings) error {
+	k := min(sv.Eigenvalues, m.Dim())
+	r, err := krylov.Eigs(m, krylovSettings(sv, k, m.Dim()))
+	res.addStats(r.Stats, r.Status)
+	res.Eigenvalues, res.Residuals = r.Values, r.Residuals
+	if err != nil {
+		return fmt.Errorf("galerkin: matrix of size %d, %d nonzeros: %w", m.Dim(), m.NNZ(), err)
+	}
+	return nil
+}
+
+func transposeOf(m Operator) krylov.Operator {
+	switch m := m.(type) {
+	case *CellMatrix:
+		return m.Transpose()
+	case *ChebyshevMatrix:
+		return m.Transpose()
+	}
+	panic("galerkin: unknown matrix type")
+}
+
+// leading computes the leading left and right eigenvectors, the density
+// and dλ_0/dβ into res.
+func (res *Result) leading(m Operator, sv ulam.SolveSettings, set Settings) error {
+	mt := transposeOf(m)
+	pair, err := krylov.Leading(m, mt, krylovSettings(sv, 1, m.Dim()))
+	res.addStats(pair.Stats, krylov.Converged)
+	if err != nil {
+		if errors.Is(err, krylov.ErrNotConverged) {
+			res.Status = krylov.IterationLimit
+		}
+		return fmt.Errorf("galerkin: matrix of size %d: leading eigenvectors: %w", m.Dim(), err)
+	}
+	u, v := pair.Left, pair.Right
+	if set.Derivative {
+		mv := make([]float64, m.Dim())
+		m.ApplyDerivative(mv, v)
+		var s float64
+		for i := range u {
+			s += u[i] * mv[i]
+		}
+		res.Derivative = s
+	}
+	// The density: the left eigenvector of K holds the Legendre
+	// coefficients (K is the transpose of the transfer operator's
+	// matrix); the right eigenvector of A holds point values.
+	switch mm := m.(type) {
+	case *CellMatrix:
+		nb := mm.Degree + 1
+		var total float64
+		for j := 0; j+1 < len(mm.Edges); j++ {
+			total += u[j*nb] * math.Sqrt(mm.Edges[j+1]-mm.Edges[j])
+		}
+		coef := slices.Clone(u)
+		for i := range coef {
+			coef[i] /= total
+		}
+		res.Density = &Density{Edges: mm.Edges, Degree: mm.Degree, Coef: coef}
+	case *ChebyshevMatrix:
+		n := mm.Dim()
+		lo, hi := mm.Points[n-1], mm.Points[0]
+		cc := clenshawCurtis(n, lo, hi)
+		var total float64
+		for i := range v {
+			total += cc[i] * v[i]
+		}
+		vals := slices.Clone(v)
+		for i := range vals {
+			vals[i] /= total
+		}
+		_, bw := chebyshevPoints(lo, hi, n)
+		res.Density = &Density{Points: mm.Points, Values: vals, bw: bw}
+	}
+	return nil
+}
+
+// clenshawCurtis returns the Clenshaw–Curtis weights of the n
+// Chebyshev–Lobatto points of [lo, hi] (C. W. Clenshaw and A. R. Curtis,
+// Numer. Math. 2 (1960) 197–205 (from memory)), computed by integrating
+// the Lagrange polynomials through their cosine series.
+func clenshawCurtis(n int, lo, hi float64) []float64 {
+	N := n - 1
+	w := make([]float64, n)
+	for k := range n {
+		theta := math.Pi * float64(k) / float64(N)
+		s := 0.0
+		for j := 0; j <= N/2; j++ {
+			b := 2.0
+			if j == 0 || 2*j == N {
+				b = 1
+			}
+			s += b / float64(1-4*j*j) * math.Cos(2*float64(j)*theta)
+		}
+		c := 2.0
+		if k == 0 || k == N {
+			c = 1
+		}
+		w[k] = c / float64(N) * s * 0.5 * (hi - lo)
+	}
+	return w
+}
+
+func (res *Result) addStats(s krylov.Stats, status krylov.Status) {
+	res.Stats.Restarts += s.Restarts
+	res.Stats.MatVecs += s.MatVecs
+	res.Stats.Reorthogonalizations += s.Reorthogonalizations
+	res.Stats.Breakdowns += s.Breakdowns
+	if status != krylov.Converged {
+		res.Status = status
+	}
+}
+
+// computeDimension finds the root s of ln λ_0(s) = 0 for the weight
+// |f'|^(1−s) by Brent's method on [0, 1].
+func computeDimension(sys *dynsys.System, set Settings, sv ulam.SolveSettings, res Result) (Result, error) {
+	set.Observable, set.Derivative = ulam.LogExpansion, false
+	var failure error
+	var last Result
+	logLambda := func(s float64) float64 {
+		set.Beta = 1 - s
+		m, err := Assemble(sys, &set)
+		res.Assemblies++
+		if err != nil {
+			failure = err
+			return math.NaN()
+		}
+		r := Result{Status: krylov.Converged}
+		if err := r.eigen(m, sv); err != nil {
+			failure = err
+			return math.NaN()
+		}
+		res.addStats(r.Stats, r.Status)
+		r.setMatrix(m)
+		last = r
+		if tailLaps(m) > 0 && s != 1 {
+			failure = ErrLogTail
+			return math.NaN()
+		}
+		l0 := r.Eigenvalues[0]
+		if imag(l0) != 0 || !(real(l0) > 0) {
+			failure = fmt.Errorf("%w: %s at s = %g: %v", ErrLeading, sys.Name, s, l0)
+			return math.NaN()
+		}
+		return math.Log(real(l0))
+	}
+	g0 := logLambda(0)
+	if failure != nil {
+		return res, failure
+	}
+	g1 := logLambda(1)
+	if failure != nil {
+		return res, failure
+	}
+	if math.Abs(g1) <= 1e-12 {
+		res.Value = 1
+	} else {
+		r, err := root.Brent(logLambda, 0, 1, g0, g1, &root.Settings{AbsTol: 1e-13})
+		if failure != nil {
+			return res, failure
+		}
+		if err != nil {
+			return res, fmt.Errorf("galerkin: %s: dimension: ln λ_0(s) = %.6g at s = 0 and %.6g at s = 1 do not bracket a root: %w", sys.Name, g0, g1, err)
+		}
+		res.Value = r.X
+		logLambda(r.X)
+	}
+	res.Eigenvalues, res.Residuals = last.Eigenvalues, last.Residuals
+	res.setMatrix(last.Matrix)
+	if sv.Density {
+		if err := res.leading(res.Matrix, sv, set); err != nil {
+			return res, err
+		}
+	}
+	return res, nil
+}

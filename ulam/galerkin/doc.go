@@ -1,0 +1,106 @@
+// Package galerkin computes the spectrum of a 1D map's weighted transfer
+// operator (L φ)(y) = Σ_{x: f(x)=y} w(x) φ(x)/|f'(x)|, w = exp(β a), from
+// higher-order discretizations that resolve the subleading eigenvalues
+// which Ulam's piecewise constants (package crosspec/ulam) miss.
+//
+// # Piecewise polynomials (Cells)
+//
+// On each of N cells C_j (equal, or graded: Settings.Edges, GradedEdges)
+// the basis is the orthonormal Legendre polynomials
+// φ_{j,b}(x) = sqrt((2b+1)/h_j) P_b(2(x − c_j)/h_j − 1), b ≤ p, so the mass
+// matrix is the identity and the matrix is the Galerkin projection
+//
+//	K_{(j,b),(i,a)} = ∫_{C_j} w(x) φ_{j,b}(x) φ_{i,a}(f(x)) dx = ⟨φ_{i,a}, L φ_{j,b}⟩,
+//
+// rows by source cell as in ulam (p = 0 gives ulam's P exactly). The
+// integral runs over the exact preimage pieces C_j ∩ f⁻¹(C_i) of each
+// monotone lap (target edges mapped back by Brent's method,
+// dynsys.System.Preimage), with Gauss–Legendre quadrature of p+8 nodes in x
+// on each piece (exact for polynomial maps: degree ≤ 2p+15). This is the
+// piecewise-polynomial generalisation of Ulam's method (discontinuous
+// Galerkin; common practice, no source). The matrix is stored in CSR
+// form; eigenvalues come from crosspec/ulam/krylov (dense for size ≤ 1200).
+//
+// For p > 0 the matrix is no longer positive. Its spectrum holds, besides
+// approximations of L's eigenvalues, eigenvalues of functions with jumps
+// at the cell edges: nilpotent blocks when the edges are preimages of the
+// domain's ends (dyadic cells for the doubling map), and eigenvalues
+// 1/Λ-like where an edge lies on a periodic orbit (the doubling map with
+// N = 7; the skew tent's fixed point 2/3 gives −1/2). The leading
+// eigenvalue of a positive operator is real and positive: Compute checks
+// it (ErrLeading) for every quantity but the eigenvalues. For the small
+// subleading eigenvalues of analytic maps, few wide cells of high degree
+// (N = 4, p = 14) beat many narrow ones, whose jump modes crowd in.
+//
+// # Global Chebyshev basis (Chebyshev)
+//
+// For analytic maps with full branches the transfer operator is
+// discretized by collocation at n Chebyshev–Lobatto points y_i of the whole
+// domain, A_ik = (L ℓ_k)(y_i) with ℓ_k the Lagrange polynomials (evaluated
+// by the barycentric formula), a dense n×n matrix whose eigenvalues
+// converge geometrically in n (spectral methods for transfer operators of
+// expanding maps: C. Wormell, Numer. Math. 142 (2019) 421–463 (from
+// memory)). A acts on density values at the points; its leading right
+// eigenvector is the density, normalised by Clenshaw–Curtis quadrature.
+// Branches whose image ends inside the domain make L φ non-smooth there
+// and lose the geometric convergence; a critical point mapped into the
+// domain (f' = 0) is refused.
+//
+// # Laps accumulating at an end (the Gauss map)
+//
+// The Gauss map's laps [1/(k+1), 1/k] accumulate at 0, and the lap scan
+// resolves them only down to a width of 1e-9 of the domain. The laps next
+// to an excluded end form a run, ranked r = 0, 1, … from the outermost;
+// their natural index n = ν_0 + r, with ν_0 = D/W − 1 from the outermost
+// lap's distance D to the accumulation point and width W (exact for
+// branches 1/(n + y); the index must grow by one a lap, checked at three
+// ranks, else no tail model is used and the excluded mass is reported in
+// ExcludedLength). The contribution a(n) of lap n to a matrix row is
+// assumed to be n⁻² G(1/n) with G analytic on [0, 1/ν_0] (true for a
+// simple pole of f, e.g. G(t) = ∫ ψ(y) φ(t/(1+yt)) (1+yt)⁻² dy for the Gauss
+// map, whose singularities lie at t ≤ −1). G is interpolated at the ranks
+// nearest to Chebyshev points of t on [0, 1/ν_0], and the interpolant is
+// summed over every n ≥ ν_0 (directly to 10⁵ ranks, then by the midpoint
+// Euler–Maclaurin formula, error O(10⁻²⁵)), which gives weights s_m with
+// Σ_n a(n) ≈ Σ_m s_m a(n_m): the whole infinite tail from about 20 laps
+// (TailNodes). Each rule is checked on the telescoping sum
+// Σ_{n ≥ ν} 1/((n+y)(n+y+1)) = 1/(ν+y) and its node count lowered until the
+// relative error is below 1e-13 (TailCheck reports it); the sample laps are
+// integrated in the image variable, where narrow laps lose no digits.
+// With the Cells basis every lap inside the end cell goes to the model;
+// with the Chebyshev basis the first TailStart (64) laps are summed
+// exactly. The model needs contributions analytic in 1/n: an observable
+// unbounded at the accumulation point is outside it, and the Lyapunov
+// exponent and dimension (ln |f'| = −2 ln x for the Gauss map) are refused
+// with ErrLogTail.
+//
+// # Quantities
+//
+// Compute mirrors ulam.Compute (DESIGN.md section 4): eigenvalues;
+// escape rate −ln λ_0; pressure ln λ_0(β); mean d ln λ_0/dβ from
+// first-order perturbation theory, ⟨u, M' v⟩/(λ_0⟨u, v⟩) with u, v the
+// left and right leading eigenvectors (krylov.Leading) and M' the matrix
+// of a·w; lyapunov the same with a = ln |f'|; dimension the root s of
+// λ_0 = 1 for the weight |f'|^(1−s) (Brent's method; the Jacobian is
+// absorbed in the integrals); decay rate −ln |λ_1/λ_0|, with the
+// subleading eigenvalue actually resolved.
+//
+// # Accuracy reached (Gauss map, λ_1 = −0.3036630028987326586, E. Wirsing,
+// Acta Arith. 24 (1974) 507–528)
+//
+//	basis      N   p   size   nonzeros  digits
+//	cells      8   1     16        164     2.7
+//	cells     32   1     64       1416     3.2
+//	cells      8   3     32        656     5.6
+//	cells     32   3    128       5664     8.2
+//	cells      8   5     48       1476     8.5
+//	cells     32   5    192      12744    13.0
+//	cells      4   9     40       1300    12.5
+//	cells      8   9     80       4100    13.6
+//	chebyshev           10        100     5.9
+//	chebyshev           20        400    13.7
+//	chebyshev           40       1600    15.1
+//	chebyshev           80       6400    14.7
+//
+// (TestGaussDigitsTable prints it.)
+package galerkin

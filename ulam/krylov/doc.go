@@ -1,0 +1,60 @@
+// Package krylov computes a few eigenvalues of largest modulus, and their
+// eigenvectors, of a large sparse nonsymmetric real matrix A that is known
+// only through its action x ↦ A x (an Operator).
+//
+// # Method
+//
+// Eigs implements the Krylov–Schur method of G. W. Stewart, "A Krylov–Schur
+// algorithm for large eigenproblems", SIAM J. Matrix Anal. Appl. 23 (2001)
+// 601–614, in real arithmetic. It maintains a Krylov decomposition
+//
+//	A V_p = V_p S_p + v_p bᵀ,
+//
+// V_{p+1} = [V_p v_p] with orthonormal columns, and alternates two phases:
+//
+//   - expansion: Arnoldi steps w = A v_j, orthogonalised against the basis by
+//     classical Gram–Schmidt, with a second pass when the first one cancels
+//     more than 1 − 1/√2 of the norm (J. W. Daniel, W. B. Gragg, L. Kaufman
+//     and G. W. Stewart, Math. Comp. 30 (1976) 772–795), until the basis has
+//     m vectors;
+//   - contraction: the m×m Rayleigh quotient H = V_mᵀ A V_m is brought to real
+//     Schur form H = Q T Qᵀ (LAPACK's Dgehrd, Dorghr, Dhseqr in gonum), the
+//     diagonal blocks of largest modulus are moved to the top by orthogonal
+//     swaps (Dtrexc, which keeps the 2×2 block of a complex pair whole), and
+//     the decomposition is truncated to the p leading Schur vectors,
+//     V_p ← V_m Q[:, :p], S_p ← T[:p, :p], bᵀ ← bᵀQ[:, :p].
+//
+// A Ritz pair (θ, x = V_m Q y), T y = θ y, has the residual
+// ‖A x − θ x‖ = |bᵀ y| for ‖y‖ = 1, read off the small problem at no cost. A
+// pair is accepted when the residual is at most Tol·‖A‖; by first-order
+// perturbation theory its eigenvalue is then accurate to about
+// κ·Tol·‖A‖, κ = ‖u‖‖v‖/|uᴴv| the condition number (u, v left and right
+// eigenvectors). Eigenvectors are those of the leading block of T (Dtrevc3)
+// mapped back by V_m Q.
+//
+// When an expansion step finds an invariant subspace (the new vector
+// vanishes after reorthogonalisation) the decomposition is continued with a
+// fresh pseudo-random direction and a zero coupling entry, which keeps
+// the Krylov decomposition exact.
+//
+// Problems with n ≤ 2m are solved densely with gonum's mat.Eigen.
+//
+// # Left eigenvectors
+//
+// Leading runs the solver on A and on Aᵀ (given as a second operator) and
+// returns λ_0 with right and left eigenvectors v, u scaled so that
+// ⟨u, v⟩ = 1, the normalisation of first-order perturbation theory:
+// dλ_0/dβ = ⟨u, (dA/dβ) v⟩ for a family A(β). λ_0 is returned as the
+// two-sided Rayleigh quotient ⟨u, A v⟩/⟨u, v⟩.
+//
+// # Performance and determinism
+//
+// The basis is one contiguous array of n·(m+1) numbers, column after column.
+// The long-vector kernels (the Gram–Schmidt projections and updates, the
+// basis rotation V_m Q at a restart, done in place one block of rows at a
+// time) run over fixed blocks of rows spread over the cores; partial dot
+// products are kept per block and summed in block order. The first
+// Gram–Schmidt update and the second projection share one sweep over the
+// basis. Results are therefore the same bytes whatever GOMAXPROCS is,
+// provided the Operator is itself deterministic.
+package krylov

@@ -1,0 +1,251 @@
+package krylov
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+	"sort"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/mat"
+)
+
+// dot returns xᵀy, summed per row block and reduced in block order.
+func dot(x, y []float64) float64 {
+	blocks := (len(x) + blockRows - 1) / blockRows
+	partial := make([]float64, blocks)
+	forBlocks(len(x), func(_, blk, lo, hi int) {
+		partial[blk] = floats.Dot(x[lo:hi], y[lo:hi])
+	})
+	var sum float64
+	for _, p := range partial {
+		sum += p
+	}
+	return sum
+}
+
+// normalizeVectors scales every eigenvector (real layout, see
+// Result.Vectors) to unit 2-norm with its first entry of largest modulus
+// real and positive, which makes the vectors unique for simple eigenvalues.
+func normalizeVectors(values []complex128, vectors [][]float64) {
+	for i := 0; i < len(values); i++ {
+		if imag(values[i]) == 0 {
+			x := vectors[i]
+			big := 0
+			for j, v := range x {
+				if math.Abs(v) > math.Abs(x[big]) {
+					big = j
+				}
+			}
+			f := 1 / math.Sqrt(dot(x, x))
+			if x[big] < 0 {
+				f = -f
+			}
+			scale(f, x)
+			continue
+		}
+		re, im := vectors[i], vectors[i+1]
+		big, bigMod := 0, -1.0
+		for j := range re {
+			if mod := re[j]*re[j] + im[j]*im[j]; mod > bigMod {
+				big, bigMod = j, mod
+			}
+		}
+		// Multiply by conj(x_big)/(|x_big| ‖x‖).
+		norm := math.Sqrt(dot(re, re) + dot(im, im))
+		c := re[big] / math.Sqrt(bigMod) / norm
+		s := im[big] / math.Sqrt(bigMod) / norm
+		forBlocks(len(re), func(_, _, lo, hi int) {
+			for j := lo; j < hi; j++ {
+				r, m := re[j], im[j]
+				re[j] = c*r + s*m
+				im[j] = c*m - s*r
+			}
+		})
+		im[big] = 0
+		i++
+	}
+}
+
+// residualsTo sets dst[i] = ‖A x_i − λ_i x_i‖/(norm ‖x_i‖) for the
+// eigenvectors in real layout, and returns the number of operator
+// applications made (one per real vector, two per pair).
+func residualsTo(dst []float64, op Operator, values []complex128, vectors [][]float64, norm float64) int {
+	n := op.Dim()
+	ax := make([]float64, n)
+	ay := make([]float64, n)
+	blocks := (n + blockRows - 1) / blockRows
+	partial := make([]float64, blocks)
+	sum := func() float64 {
+		var s float64
+		for _, p := range partial {
+			s += p
+		}
+		return s
+	}
+	matVecs := 0
+	for i := 0; i < len(values); i++ {
+		lambda := values[i]
+		if imag(lambda) == 0 {
+			x := vectors[i]
+			op.Apply(ax, x)
+			matVecs++
+			a := real(lambda)
+			forBlocks(n, func(_, blk, lo, hi int) {
+				var s float64
+				for j := lo; j < hi; j++ {
+					r := ax[j] - a*x[j]
+					s += r * r
+				}
+				partial[blk] = s
+			})
+			dst[i] = math.Sqrt(sum()/dot(x, x)) / norm
+			continue
+		}
+		x, y := vectors[i], vectors[i+1]
+		op.Apply(ax, x)
+		op.Apply(ay, y)
+		matVecs += 2
+		a, b := real(lambda), imag(lambda)
+		// A(x + iy) − (a + ib)(x + iy) = (Ax − a x + b y) + i (Ay − a y − b x).
+		forBlocks(n, func(_, blk, lo, hi int) {
+			var s float64
+			for j := lo; j < hi; j++ {
+				re := ax[j] - a*x[j] + b*y[j]
+				im := ay[j] - a*y[j] - b*x[j]
+				s += re*re + im*im
+			}
+			partial[blk] = s
+		})
+		r := math.Sqrt(sum()/(dot(x, x)+dot(y, y))) / norm
+		dst[i], dst[i+1] = r, r
+		i++
+	}
+	return matVecs
+}
+
+// sortResult orders the values of r by decreasing modulus, ties by
+// decreasing real part, moving each conjugate pair as one entry, and
+// permutes Vectors and Residuals alike.
+func sortResult(r *Result) {
+	type group struct{ start, size int }
+	var groups []group
+	for i := 0; i < len(r.Values); {
+		size := 1
+		if imag(r.Values[i]) > 0 {
+			size = 2
+		}
+		groups = append(groups, group{i, size})
+		i += size
+	}
+	sort.SliceStable(groups, func(a, b int) bool {
+		va, vb := r.Values[groups[a].start], r.Values[groups[b].start]
+		ma, mb := cmplx.Abs(va), cmplx.Abs(vb)
+		if ma != mb {
+			return ma > mb
+		}
+		return real(va) > real(vb)
+	})
+	values := make([]complex128, 0, len(r.Values))
+	residuals := make([]float64, 0, len(r.Values))
+	var vectors [][]float64
+	for _, g := range groups {
+		values = append(values, r.Values[g.start:g.start+g.size]...)
+		residuals = append(residuals, r.Residuals[g.start:g.start+g.size]...)
+		if r.Vectors != nil {
+			vectors = append(vectors, r.Vectors[g.start:g.start+g.size]...)
+		}
+	}
+	r.Values, r.Residuals, r.Vectors = values, residuals, vectors
+}
+
+// eigsDense solves a small problem densely: the matrix is assembled column
+// by column from the operator and handed to gonum's mat.Eigen.
+func eigsDense(op Operator, c settings) (Result, error) {
+	n := c.n
+	a := mat.NewDense(n, n, nil)
+	e := make([]float64, n)
+	col := make([]float64, n)
+	norm := c.norm
+	for j := range n {
+		e[j] = 1
+		op.Apply(col, e)
+		e[j] = 0
+		colNorm := math.Sqrt(floats.Dot(col, col))
+		if math.IsNaN(colNorm) || math.IsInf(colNorm, 0) {
+			return Result{}, errNonFinite
+		}
+		if c.norm == 0 {
+			norm = max(norm, colNorm)
+		}
+		a.SetCol(j, col)
+	}
+	res := Result{Norm: norm, Status: Converged, Stats: Stats{MatVecs: n}}
+	if norm == 0 {
+		// The zero operator: every vector is an eigenvector of 0.
+		norm = 1
+		res.Norm = 0
+	}
+	// The vectors are computed even when not asked for, to give the
+	// residuals.
+	var eig mat.Eigen
+	if !eig.Factorize(a, mat.EigenRight) {
+		return Result{}, fmt.Errorf("krylov: dense eigen-decomposition of the %d×%d matrix failed", n, n)
+	}
+	all := eig.Values(nil)
+	// Groups: a real value, or a pair with the positive imaginary part
+	// first (mat.Eigen's order).
+	type group struct{ start, size int }
+	var groups []group
+	for i := 0; i < n; {
+		size := 1
+		if imag(all[i]) != 0 {
+			size = 2
+		}
+		groups = append(groups, group{i, size})
+		i += size
+	}
+	sort.SliceStable(groups, func(x, y int) bool {
+		vx, vy := all[groups[x].start], all[groups[y].start]
+		mx, my := cmplx.Abs(vx), cmplx.Abs(vy)
+		if mx != my {
+			return mx > my
+		}
+		return real(vx) > real(vy)
+	})
+	var vecs mat.CDense
+	eig.VectorsTo(&vecs)
+	for _, g := range groups {
+		if len(res.Values) >= c.k {
+			break
+		}
+		v := all[g.start]
+		if g.size == 1 {
+			res.Values = append(res.Values, v)
+		} else {
+			res.Values = append(res.Values, complex(real(v), math.Abs(imag(v))), complex(real(v), -math.Abs(imag(v))))
+		}
+		re := make([]float64, n)
+		im := make([]float64, n)
+		sign := 1.0
+		if imag(v) < 0 {
+			sign = -1
+		}
+		for i := range n {
+			z := vecs.At(i, g.start)
+			re[i], im[i] = real(z), sign*imag(z)
+		}
+		if g.size == 1 {
+			res.Vectors = append(res.Vectors, re)
+		} else {
+			res.Vectors = append(res.Vectors, re, im)
+		}
+	}
+	res.Residuals = make([]float64, len(res.Values))
+	normalizeVectors(res.Values, res.Vectors)
+	res.Stats.MatVecs += residualsTo(res.Residuals, op, res.Values, res.Vectors, norm)
+	if !c.vectors {
+		res.Vectors = nil
+	}
+	return res, nil
+}

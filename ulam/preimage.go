@@ -1,0 +1,227 @@
+package ulam
+
+import (
+	"math"
+
+	"crosspec/dynsys"
+)
+
+// solver1D finds many preimages on one monotone piece of a lap at once,
+// using the system's batch evaluation (a few ns a point, against tens of ns
+// for a single call). The targets are bracketed by sampling the piece on a
+// uniform grid as fine as the targets are many — consecutive targets have
+// consecutive brackets, so one walk finds them all. Each target starts from
+// inverse quadratic interpolation of the three samples around it, x(y)
+// through (y_a, x_a), error O(h³ f”/f') for a sample spacing h, which on a
+// smooth lap at the grid's resolution is already below one ulp; it is then
+// refined by a safeguarded secant iteration inside its bracket, all targets
+// of the piece together, one batch evaluation per round. A target is done
+// when the secant step falls below 4|x|ε or its bracket below 8|x|ε: full
+// double precision, as Brent's method (System.Preimage) would give, which
+// serves as the fallback for a bracket that sampling round-off spoils.
+// Smooth laps need one round after the sampling, which confirms the start.
+type solver1D struct {
+	sys    *dynsys.System
+	sx, sy []float64
+	// The iteration of target k, in separate arrays for the batch rounds:
+	// its bracket [lo, hi] with residuals glo, ghi of opposite signs, the
+	// current point x and the previous one xp with its residual gp.
+	lo, hi, glo, ghi, x, xp, gp []float64
+	// best is the point with the smallest residual |gbest| met so far.
+	best, gbest []float64
+	active      []int32
+	bx, by      []float64
+}
+
+func newSolver1D(sys *dynsys.System) *solver1D { return &solver1D{sys: sys} }
+
+// maxSecantRounds bounds the refinement; a target still moving then keeps
+// the point of smallest residual met (it has met the round-off floor of f,
+// where secant steps between residuals of pure noise wander off).
+const maxSecantRounds = 12
+
+func grow[T any](s []T, n int) []T {
+	if cap(s) < n {
+		return make([]T, n, n+n/4)
+	}
+	return s[:n]
+}
+
+// preimages writes into dst the x in [u0, u1] with f(x) = ys[k], where f is
+// monotone on [u0, u1] with f(u0) = f0, f(u1) = f1, and ys is ordered as
+// the preimages are (increasing in x). l is the lap, for the fallback.
+func (s *solver1D) preimages(dst, ys []float64, u0, u1, f0, f1 float64, l dynsys.Lap) {
+	m := len(ys)
+	if m == 0 {
+		return
+	}
+	dst = dst[:m]
+	inc := f1 > f0
+	// Sample the piece.
+	samples := m + 1
+	s.sx = grow(s.sx, samples+1)
+	s.sy = grow(s.sy, samples+1)
+	sx, sy := s.sx, s.sy
+	step := (u1 - u0) / float64(samples)
+	for k := 1; k < samples; k++ {
+		sx[k] = u0 + step*float64(k)
+	}
+	sx[0], sx[samples] = u0, u1
+	s.sys.MapBatch(sy[1:samples], sx[1:samples])
+	sy[0], sy[samples] = f0, f1
+
+	s.lo, s.hi = grow(s.lo, m), grow(s.hi, m)
+	s.glo, s.ghi = grow(s.glo, m), grow(s.ghi, m)
+	s.x, s.xp, s.gp = grow(s.x, m), grow(s.xp, m), grow(s.gp, m)
+	s.best, s.gbest = grow(s.best, m), grow(s.gbest, m)
+	best, gbest := s.best[:m], s.gbest[:m]
+	s.active = s.active[:0]
+	lo, hi, glo, ghi, xs, xp, gp := s.lo[:m], s.hi[:m], s.glo[:m], s.ghi[:m], s.x[:m], s.xp[:m], s.gp[:m]
+	j := 0
+	for k, y := range ys {
+		if inc {
+			for j < samples-1 && sy[j+1] <= y {
+				j++
+			}
+		} else {
+			for j < samples-1 && sy[j+1] >= y {
+				j++
+			}
+		}
+		a, b := sx[j], sx[j+1]
+		ga, gb := sy[j]-y, sy[j+1]-y
+		switch {
+		case ga == 0:
+			dst[k] = a
+			continue
+		case gb == 0:
+			dst[k] = b
+			continue
+		case (ga > 0) == (gb > 0) || math.IsNaN(ga) || math.IsNaN(gb):
+			dst[k] = s.fallback(l, y, u0, u1)
+			continue
+		}
+		lo[k], hi[k], glo[k], ghi[k] = a, b, ga, gb
+		// Start from inverse quadratic interpolation through the bracket
+		// and its nearer outer neighbour, else from false position.
+		c, gc := math.NaN(), math.NaN()
+		if j > 0 {
+			c, gc = sx[j-1], sy[j-1]-y
+		} else if j+2 <= samples {
+			c, gc = sx[j+2], sy[j+2]-y
+		}
+		// Newton's form in the residual g: x(0) = a − ga·[a,b] +
+		// ga·gb·[a,b,c] with the divided differences of x over g, the
+		// corrections to a small, so the round-off is that of a.
+		dab, dbc := (b-a)/(gb-ga), (c-b)/(gc-gb)
+		x := a - ga*dab + ga*gb*(dbc-dab)/(gc-ga)
+		if !(x > a && x < b) {
+			x = a - ga*(b-a)/(gb-ga)
+			if !(x > a && x < b) {
+				x = 0.5 * (a + b)
+			}
+		}
+		xs[k] = x
+		// The secant partner is the bracket end with the smaller residual.
+		if math.Abs(ga) < math.Abs(gb) {
+			xp[k], gp[k] = a, ga
+		} else {
+			xp[k], gp[k] = b, gb
+		}
+		best[k], gbest[k] = xp[k], math.Abs(gp[k])
+		s.active = append(s.active, int32(k))
+	}
+
+	for round := 0; len(s.active) > 0; round++ {
+		na := len(s.active)
+		s.bx = grow(s.bx, na)
+		s.by = grow(s.by, na)
+		bx, by := s.bx[:na], s.by[:na]
+		for q, k := range s.active {
+			bx[q] = xs[k]
+		}
+		s.sys.MapBatch(by, bx)
+		still := s.active[:0]
+		for q, k := range s.active {
+			x, gx := bx[q], by[q]-ys[k]
+			if gx == 0 || math.IsNaN(gx) {
+				if math.IsNaN(gx) {
+					x = s.fallback(l, ys[k], u0, u1)
+				}
+				dst[k] = x
+				continue
+			}
+			if math.Abs(gx) < gbest[k] {
+				best[k], gbest[k] = x, math.Abs(gx)
+			}
+			if (gx > 0) == (glo[k] > 0) {
+				lo[k], glo[k] = x, gx
+			} else {
+				hi[k], ghi[k] = x, gx
+			}
+			a, b := lo[k], hi[k]
+			next := math.NaN()
+			if dx := x - xp[k]; dx != 0 {
+				if slope := (gx - gp[k]) / dx; slope != 0 {
+					next = x - gx/slope
+				}
+			}
+			tiny := max(math.Abs(x)*0x1p-52, 0x1p-1074)
+			if math.IsNaN(next) && math.Abs(x-xp[k]) <= 4*tiny {
+				// Two points within round-off with the same residual: f
+				// cannot tell them apart, and x is a root to full
+				// precision.
+				dst[k] = x
+				continue
+			}
+			if round == maxSecantRounds {
+				// The residuals are round-off: keep the best point.
+				dst[k] = best[k]
+				continue
+			}
+			if math.Abs(next-x) <= 4*tiny || b-a <= 8*tiny {
+				if next >= a && next <= b {
+					dst[k] = next
+				} else {
+					dst[k] = x
+				}
+				continue
+			}
+			if !(next > a && next < b) {
+				next = a - glo[k]*(b-a)/(ghi[k]-glo[k])
+				if !(next > a && next < b) {
+					next = 0.5 * (a + b)
+				}
+			}
+			xp[k], gp[k] = x, gx
+			xs[k] = next
+			still = append(still, k)
+		}
+		s.active = still
+	}
+	// Preimages of ordered targets are ordered: remove round-off
+	// inversions and keep them inside the piece.
+	prev := u0
+	for k, x := range dst {
+		if !(x >= prev) { // also catches NaN
+			x = prev
+		}
+		if x > u1 {
+			x = u1
+		}
+		dst[k] = x
+		prev = x
+	}
+}
+
+func (s *solver1D) fallback(l dynsys.Lap, y, u0, u1 float64) float64 {
+	x, ok := s.sys.Preimage(l, y)
+	if !ok {
+		// y is at an end of the piece up to round-off.
+		if math.Abs(y-s.sys.F(u0)) < math.Abs(y-s.sys.F(u1)) {
+			return u0
+		}
+		return u1
+	}
+	return min(max(x, u0), u1)
+}
