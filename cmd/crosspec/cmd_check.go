@@ -398,23 +398,34 @@ type column struct {
 	resolution, name string
 	x                []int
 	values           []float64
+	// digits is the number of significant digits printed: the matrix
+	// paths solve their eigenproblems to a relative residual of 1e-12,
+	// so digits beyond the twelfth are the solver's noise.
+	digits int
+}
+
+func (c column) format(v float64) string {
+	if math.IsNaN(v) {
+		return "-"
+	}
+	return strconv.FormatFloat(v, 'g', c.digits, 64)
 }
 
 func (r *checkResult) columns() []column {
 	q := string(r.opts.quantity)
 	var cols []column
 	if cells, uv := r.ulamValues(); len(cells) > 0 {
-		cols = append(cols, column{"cells N", "Ulam " + q, cells, uv})
+		cols = append(cols, column{"cells N", "Ulam " + q, cells, uv, 12})
 	}
 	if sizes, gv := r.galerkinValues(); len(sizes) > 0 {
 		res := "cells"
 		if r.opts.disc.basis == galerkin.Chebyshev {
 			res = "points"
 		}
-		cols = append(cols, column{res, "Galerkin " + q, sizes, gv})
+		cols = append(cols, column{res, "Galerkin " + q, sizes, gv, 12})
 	}
 	orders, cv := r.cycleValues()
-	return append(cols, column{"cycle length n", "cycles " + q, orders, cv})
+	return append(cols, column{"cycle length n", "cycles " + q, orders, cv, 15})
 }
 
 // convergenceGrid lays the paths side by side against their resolution.
@@ -431,7 +442,7 @@ func (r *checkResult) convergenceGrid() *grid {
 		for _, c := range cols {
 			cell := []string{"", "", ""}
 			if i < len(c.x) {
-				cell[0], cell[1] = strconv.Itoa(c.x[i]), formatValue(c.values[i])
+				cell[0], cell[1] = strconv.Itoa(c.x[i]), c.format(c.values[i])
 				if i > 0 {
 					cell[2] = formatSmall(math.Abs(c.values[i] - c.values[i-1]))
 				}
@@ -446,8 +457,8 @@ func (r *checkResult) convergenceGrid() *grid {
 // summaryGrid gives the extrapolated values with their error bars.
 func (r *checkResult) summaryGrid() *grid {
 	g := &grid{header: []string{"path", "estimate", "error", "value(error)", "convergence", "status"}}
-	add := func(name string, est compare.Estimate, conv string) {
-		g.add(name, formatValue(est.Value), formatSmall(est.Error), compare.FormatUncertainty(est.Value, est.Error), conv, est.Status.String())
+	add := func(name string, est compare.Estimate, conv string, digits int) {
+		g.add(name, column{digits: digits}.format(est.Value), formatSmall(est.Error), compare.FormatUncertainty(est.Value, est.Error), conv, est.Status.String())
 	}
 	rate := func(v float64, format string) string {
 		if math.IsNaN(v) {
@@ -456,12 +467,12 @@ func (r *checkResult) summaryGrid() *grid {
 		return fmt.Sprintf(format, v)
 	}
 	if len(r.ulamRuns) > 0 {
-		add("Ulam", r.ulamEst, rate(r.ulamEst.Order, "order %.2g in 1/N"))
+		add("Ulam", r.ulamEst, rate(r.ulamEst.Order, "order %.2g in 1/N"), 12)
 	}
 	if len(r.galerkinRuns) > 0 {
-		add("Galerkin, "+r.opts.disc.String(), r.galerkinEst, rate(r.galerkinEst.Order, "rate %.2g a step"))
+		add("Galerkin, "+r.opts.disc.String(), r.galerkinEst, rate(r.galerkinEst.Order, "rate %.2g a step"), 12)
 	}
-	add("cycles", r.cyclesEst, rate(r.cyclesEst.Order, "rate %.2g"))
+	add("cycles", r.cyclesEst, rate(r.cyclesEst.Order, "rate %.2g"), 15)
 	return g
 }
 
