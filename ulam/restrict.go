@@ -80,13 +80,19 @@ func (m *Matrix) Restrict(r Restriction, closed bool) *Matrix {
 		for i := range final {
 			final[i] = true
 		}
+		// A cell with an empty row is a dead end: mass sent there is lost,
+		// as if it escaped (a closed system's cell wholly inside a part of
+		// the domain the lap scan left out, such as the first cells of the
+		// Gauss map on a fine grid). An edge into a dead end does not stop
+		// a class from being final.
+		deadEnd := func(j int) bool { return m.RowPtr[j+1] == m.RowPtr[j] }
 		for i := range n {
 			size[comp[i]]++
 			for _, j := range m.Col[m.RowPtr[i]:m.RowPtr[i+1]] {
 				if j == i {
 					nontrivial[comp[i]] = true
 				}
-				if comp[j] != comp[i] {
+				if comp[j] != comp[i] && !deadEnd(j) {
 					final[comp[i]] = false
 				}
 			}

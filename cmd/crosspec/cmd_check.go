@@ -594,7 +594,15 @@ func (r *checkResult) write(w io.Writer, format string) error {
 		return writeJSON(w, r.json())
 	}
 	if format == formatTable {
-		fmt.Fprintf(w, "%s of %s: Ulam's method against the cycle expansion (%s)\n", r.opts.quantity, r.system.Name, expansionName(r.opts.expand.function))
+		var paths []string
+		if len(r.ulamRuns) > 0 {
+			paths = append(paths, "Ulam's method")
+		}
+		if len(r.galerkinRuns) > 0 {
+			paths = append(paths, "Galerkin ("+r.opts.disc.String()+")")
+		}
+		paths = append(paths, "the cycle expansion ("+expansionName(r.opts.expand.function)+")")
+		fmt.Fprintf(w, "%s of %s: %s\n", r.opts.quantity, r.system.Name, strings.Join(paths, " against "))
 	}
 	if err := r.convergenceGrid().render(w, format); err != nil {
 		return err
