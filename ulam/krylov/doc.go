@@ -15,8 +15,11 @@
 //   - expansion: Arnoldi steps w = A v_j, orthogonalised against the basis by
 //     classical Gram–Schmidt, with a second pass when the first one cancels
 //     more than 1 − 1/√2 of the norm (J. W. Daniel, W. B. Gragg, L. Kaufman
-//     and G. W. Stewart, Math. Comp. 30 (1976) 772–795), until the basis has
-//     m vectors;
+//     and G. W. Stewart, Math. Comp. 30 (1976) 772–795), the norm after a
+//     pass taken as ‖w‖² − ‖h‖² (Pythagoras; A. Smoktunowicz, J. L. Barlow
+//     and J. Langou, Numer. Math. 105 (2006) 299–313, from memory) so that
+//     the normalisation shares the last sweep over the basis, until the
+//     basis has m vectors;
 //   - contraction: the m×m Rayleigh quotient H = V_mᵀ A V_m is brought to real
 //     Schur form H = Q T Qᵀ (LAPACK's Dgehrd, Dorghr, Dhseqr in gonum), the
 //     diagonal blocks of largest modulus are moved to the top by orthogonal
@@ -37,7 +40,29 @@
 // fresh pseudo-random direction and a zero coupling entry, which keeps
 // the Krylov decomposition exact.
 //
+// The subspace size m doubles every 10 restarts while the wanted pairs
+// have not converged, up to Settings.MaxSubspaceSize: slow convergence
+// signals crowded moduli near the wanted ones, where a small subspace can
+// also settle on an eigenvalue that is not among the largest (its
+// implicit filter has roots, the discarded Ritz values, next to the wanted
+// eigenvalue).
+//
 // Problems with n ≤ 2m are solved densely with gonum's mat.Eigen.
+//
+// # The leading eigenvalue alone
+//
+// For Wanted = 1 with the default subspace, Eigs first makes power steps
+// x ← A x. When the other eigenvalues fill a disc centred at 0, as the
+// spurious eigenvalues of an Ulam matrix do, z^t is the best Krylov
+// polynomial for separating λ_0 (maximum principle; common practice, no
+// source): no Krylov subspace converges in fewer mat-vecs, and a power step
+// reads two vectors instead of the whole basis twice. The residual of the
+// Rayleigh quotient is computed in the same sweep as the quotient (see
+// power.go), only at the steps where the convergence factor measured so far
+// predicts that it may be small, and confirmed by an explicit sweep. When
+// the factor stays above 0.8 after 16 steps (an eigenvalue close to λ_0 in
+// modulus, or a leading complex pair), Krylov–Schur takes over from the
+// last iterate.
 //
 // # Left eigenvectors
 //
@@ -52,9 +77,12 @@
 // The basis is one contiguous array of n·(m+1) numbers, column after column.
 // The long-vector kernels (the Gram–Schmidt projections and updates, the
 // basis rotation V_m Q at a restart, done in place one block of rows at a
-// time) run over fixed blocks of rows spread over the cores; partial dot
-// products are kept per block and summed in block order. The first
-// Gram–Schmidt update and the second projection share one sweep over the
-// basis. Results are therefore the same bytes whatever GOMAXPROCS is,
-// provided the Operator is itself deterministic.
+// time) run over fixed blocks of 16384 rows spread over the cores; partial
+// dot products are kept per block and summed in block order. An Arnoldi
+// step sweeps the basis twice when one Gram–Schmidt pass suffices and three
+// times when the second is needed (first projection; first update fused
+// with the second projection, sub-block by sub-block in cache; second
+// update fused with the normalisation). Results are therefore the same
+// bytes whatever GOMAXPROCS is, provided the Operator is itself
+// deterministic.
 package krylov

@@ -151,9 +151,12 @@ func (b *basis) subtract(w, h []float64, q int, scale float64) float64 {
 }
 
 // subBlockRows is the number of rows of the sub-blocks of a fused sweep
-// (subtractProject): q basis vectors of a sub-block, 8·q·subBlockRows
-// bytes, stay in a core's L2 cache between the update and the projection.
-const subBlockRows = 1024
+// (subtractProject): the q basis vectors of a sub-block stay in a core's
+// cache between the update and the projection. Measured on the reference
+// machine with q = 30 and 10⁶ rows: 13–14 ms a sweep with 4096 rows, 15 ms
+// with 2048 or 16384, 17.6 ms with 1024, against 16.5 ms for a separate
+// update and projection.
+const subBlockRows = 4096
 
 // subtractProject performs w ← w − Σ_{l<q} h[l] v_l and sets
 // again[l] = v_lᵀ w for the updated w, in one sweep over the basis: each

@@ -269,3 +269,46 @@ func perturbedDoublingUlam(n int, eps float64) *csr {
 	}
 	return newCSR(n, es)
 }
+
+// logisticRepellerUlam returns the transposed (mass-transport) Ulam matrix
+// on n equal cells of [0, 1] of the open logistic map f(x) = r x(1 − x),
+// r > 4: entry (j, i) is |B_i ∩ f⁻¹(B_j)|/|B_i|, the mass of cell i that
+// lands in cell j; mass mapped above 1 escapes. The preimage pieces come
+// from the two inverse branches x = (1 ∓ √(1 − 4y/r))/2 in closed form.
+func logisticRepellerUlam(n int, r float64) *csr {
+	inverse := func(y float64, lap int) float64 {
+		d := math.Sqrt(max(0, 1-4*y/r))
+		if lap == 0 {
+			return (1 - d) / 2
+		}
+		return (1 + d) / 2
+	}
+	f := func(x float64) float64 { return r * x * (1 - x) }
+	h := 1 / float64(n)
+	var es []entry
+	for i := range n {
+		a, b := float64(i)*h, float64(i+1)*h
+		// The monotone pieces of the cell: [a, b] split at 1/2.
+		pieces := [][2]float64{{a, b}}
+		if a < 0.5 && b > 0.5 {
+			pieces = [][2]float64{{a, 0.5}, {0.5, b}}
+		}
+		for _, p := range pieces {
+			lap := 0
+			if p[0] >= 0.5 {
+				lap = 1
+			}
+			lo, hi := min(f(p[0]), f(p[1])), max(f(p[0]), f(p[1]))
+			hi = min(hi, 1)
+			for cell := int(lo * float64(n)); cell < n && float64(cell)*h < hi; cell++ {
+				ylo, yhi := max(lo, float64(cell)*h), min(hi, float64(cell+1)*h)
+				if yhi <= ylo {
+					continue
+				}
+				w := math.Abs(inverse(yhi, lap)-inverse(ylo, lap)) * float64(n)
+				es = append(es, entry{cell, i, w})
+			}
+		}
+	}
+	return newCSR(n, es)
+}

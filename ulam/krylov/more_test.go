@@ -265,6 +265,7 @@ func TestSettingsErrors(t *testing.T) {
 		{MaxRestarts: -2},
 		{Norm: -1},
 		{SubspaceSize: -1},
+		{MaxSubspaceSize: -1},
 		{Wanted: 10, SubspaceSize: 11},
 		{Start: make([]float64, 100)},
 	} {
