@@ -235,28 +235,14 @@ func computeDimension(sys *dynsys.System, set Settings, sv SolveSettings, res Re
 		last = r
 		return math.Log(real(r.Eigenvalues[0]))
 	}
-	g0 := logLambda(0)
-	if failure != nil {
-		return res, failure
+	value, err := BowenRoot(func(s float64) (float64, error) {
+		g := logLambda(s)
+		return g, failure
+	})
+	if err != nil {
+		return res, fmt.Errorf("ulam: %s: %w", sys.Name, err)
 	}
-	g1 := logLambda(1)
-	if failure != nil {
-		return res, failure
-	}
-	if math.Abs(g1) <= 1e-12 {
-		// A closed map: λ_0(1) = 1, the dimension is 1.
-		res.Value = 1
-	} else {
-		r, err := root.Brent(logLambda, 0, 1, g0, g1, &root.Settings{AbsTol: 1e-13})
-		if failure != nil {
-			return res, failure
-		}
-		if err != nil {
-			return res, fmt.Errorf("ulam: %s: dimension: ln λ_0(s) = %.6g at s = 0 and %.6g at s = 1 do not bracket a root: %w", sys.Name, g0, g1, err)
-		}
-		res.Value = r.X
-		logLambda(r.X)
-	}
+	res.Value = value
 	res.Eigenvalues, res.Residuals, res.Matrix = last.Eigenvalues, last.Residuals, last.Matrix
 	if sv.Density {
 		if err := res.leading(res.Matrix, sv); err != nil {
@@ -264,4 +250,45 @@ func computeDimension(sys *dynsys.System, set Settings, sv SolveSettings, res Re
 		}
 	}
 	return res, nil
+}
+
+// BowenRoot returns the root s in [0, 1] of Bowen's equation
+// ln λ_0(s) = 0, where logLambda(s) computes ln λ_0 of the operator with
+// the weight |f'|^(1−s) (DESIGN.md section 3), by Brent's method to 1e-13.
+// A closed map, whose λ_0(1) = 1, has dimension 1. The last call of
+// logLambda is at the returned root, so a caller that keeps the last
+// eigen-solve keeps the one at the root. An error of logLambda stops the
+// search and is returned.
+func BowenRoot(logLambda func(s float64) (float64, error)) (float64, error) {
+	var failure error
+	f := func(s float64) float64 {
+		g, err := logLambda(s)
+		if err != nil {
+			failure = err
+			return math.NaN()
+		}
+		return g
+	}
+	g0 := f(0)
+	if failure != nil {
+		return 0, failure
+	}
+	g1 := f(1)
+	if failure != nil {
+		return 0, failure
+	}
+	if math.Abs(g1) <= 1e-12 {
+		return 1, nil
+	}
+	r, err := root.Brent(f, 0, 1, g0, g1, &root.Settings{AbsTol: 1e-13})
+	if failure != nil {
+		return 0, failure
+	}
+	if err != nil {
+		return 0, fmt.Errorf("dimension: ln λ_0(s) = %.6g at s = 0 and %.6g at s = 1 do not bracket a root: %w", g0, g1, err)
+	}
+	if f(r.X); failure != nil {
+		return 0, failure
+	}
+	return r.X, nil
 }

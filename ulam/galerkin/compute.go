@@ -8,7 +8,6 @@ import (
 	"slices"
 
 	"crosspec/dynsys"
-	"crosspec/dynsys/root"
 	"crosspec/ulam"
 	"crosspec/ulam/krylov"
 )
@@ -473,27 +472,14 @@ func computeDimension(sys *dynsys.System, set Settings, sv ulam.SolveSettings, r
 		}
 		return math.Log(real(l0))
 	}
-	g0 := logLambda(0)
-	if failure != nil {
-		return res, failure
+	value, err := ulam.BowenRoot(func(s float64) (float64, error) {
+		g := logLambda(s)
+		return g, failure
+	})
+	if err != nil {
+		return res, fmt.Errorf("galerkin: %s: %w", sys.Name, err)
 	}
-	g1 := logLambda(1)
-	if failure != nil {
-		return res, failure
-	}
-	if math.Abs(g1) <= 1e-12 {
-		res.Value = 1
-	} else {
-		r, err := root.Brent(logLambda, 0, 1, g0, g1, &root.Settings{AbsTol: 1e-13})
-		if failure != nil {
-			return res, failure
-		}
-		if err != nil {
-			return res, fmt.Errorf("galerkin: %s: dimension: ln λ_0(s) = %.6g at s = 0 and %.6g at s = 1 do not bracket a root: %w", sys.Name, g0, g1, err)
-		}
-		res.Value = r.X
-		logLambda(r.X)
-	}
+	res.Value = value
 	res.Eigenvalues, res.Residuals = last.Eigenvalues, last.Residuals
 	res.setMatrix(last.Matrix)
 	if sv.Density {
