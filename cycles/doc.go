@@ -127,6 +127,24 @@
 // zeros in place but add poles, so the coefficients decay only
 // geometrically: Diagnostics flags it.
 //
+// # The cycle search
+//
+// Search finds every prime cycle up to a length. A 1D map is searched by
+// itinerary: every admissible Lyndon word over its laps names at most one
+// prime cycle, the fixed point of the composed inverse branches, which
+// contract for an expanding map; pruned words are recognised by the
+// residual they leave. Maps of dimension d ≥ 2 are searched from seeds by
+// the stabilising transformations of P. Schmelcher and F. K. Diakonos,
+// Phys. Rev. Lett. 78 (1997) 4733, with the step of R. L. Davidchack and
+// Y.-C. Lai, Phys. Rev. E 60 (1999) 6172, and polished by multiple-shooting
+// Newton; multipliers come from a QR-accumulated Jacobian product. Every
+// length is checked against the counts of the symbolic dynamics (necklace
+// numbers, or tr Tⁿ of a grammar of forbidden words) and against the closed
+// walks of a box partition's transition graph. The details are in Search's
+// documentation. Cycle files (JSON Lines or CSV) are written per length, so
+// a search resumes; Verify re-converges and checks cycles read from
+// elsewhere.
+//
 // Lyndon words (Duval's algorithm) and their necklace count name the
 // prime cycles of a full shift.
 package cycles
