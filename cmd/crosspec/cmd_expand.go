@@ -10,6 +10,7 @@ import (
 	"os"
 	"os/signal"
 	"strconv"
+	"strings"
 
 	"crosspec/cycles"
 	"crosspec/dynsys"
@@ -42,6 +43,7 @@ missing cycles or pruning).`,
 		function := fs.String("expansion", "determinant", "expansion: determinant, zeta or factorized (1D)")
 		format := fs.String("format", formatTable, "output format: table, csv, json, latex or markdown")
 		quiet := fs.Bool("quiet", false, "no progress indicator")
+		betas := fs.String("betas", "", "comma-separated β values: follow the leading eigenvalue along them and print the pressure curve P(β)")
 		return func(args []string) int {
 			if err := checkFormat(*format); err != nil {
 				return e.fail(err)
@@ -67,6 +69,9 @@ missing cycles or pruning).`,
 			opts.progress = !*quiet && isTerminal(e.stderr)
 			ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
 			defer stop()
+			if *betas != "" {
+				return runPressureCurve(ctx, e, s, opts, *betas, *format)
+			}
 			res, info, err := runExpansion(ctx, e, s, opts)
 			if err != nil {
 				return e.fail(err)
@@ -400,4 +405,66 @@ func writeExpansionReport(w io.Writer, s *dynsys.System, opts expandOptions, res
 	}
 	fmt.Fprintln(w, "Error bars are estimates from the observed convergence, not rigorous bounds.")
 	return nil
+}
+
+// runPressureCurve follows the leading eigenvalue along a list of β and
+// prints λ_0(β) and P(β) = ln λ_0(β) from the longest truncation.
+func runPressureCurve(ctx context.Context, e *env, s *dynsys.System, opts expandOptions, list, format string) int {
+	var betas []float64
+	for _, f := range strings.Split(list, ",") {
+		b, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+		if err != nil || math.IsNaN(b) || math.IsInf(b, 0) {
+			return e.fail(usagef("--betas %q: expected finite numbers separated by commas", list))
+		}
+		betas = append(betas, b)
+	}
+	sum := cycles.ObservableSum
+	switch opts.quantity {
+	case dynsys.Lyapunov, dynsys.Dimension:
+		sum = cycles.LogMultiplier
+	default:
+		if !s.HasObservable() {
+			return e.fail(usagef("--betas: system %s defines no observable to weight (use --quantity lyapunov for the weight |Λ|^β)", s.Name))
+		}
+	}
+	cs, info, err := obtainCycles(ctx, e, s, opts)
+	if err != nil {
+		return e.fail(err)
+	}
+	curve, err := cycles.LeadingCurve(cs, betas, &cycles.Settings{MaxLen: opts.maxLen, Function: opts.function, Sum: sum})
+	if err != nil {
+		return e.fail(&numericalError{err})
+	}
+	if format == formatJSON {
+		type point struct {
+			Beta     float64   `json:"beta"`
+			Leading  float64   `json:"leading"`
+			Pressure float64   `json:"pressure"`
+			Floor    jsonFloat `json:"floor"`
+		}
+		doc := struct {
+			System string  `json:"system"`
+			Weight string  `json:"weight"`
+			MaxLen int     `json:"max_len"`
+			Points []point `json:"points"`
+		}{System: s.Name, Weight: sum.String(), MaxLen: opts.maxLen}
+		for _, p := range curve {
+			doc.Points = append(doc.Points, point{p.Beta, p.Leading, p.Pressure, jsonFloat(p.Floor)})
+		}
+		if err := writeJSON(e.stdout, doc); err != nil {
+			return e.fail(err)
+		}
+		return exitOK
+	}
+	g := &grid{header: []string{"β", "λ0(β)", "P(β) = ln λ0", "round-off floor"}}
+	for _, p := range curve {
+		g.add(strconv.FormatFloat(p.Beta, 'g', -1, 64), formatValue(p.Leading), formatValue(p.Pressure), formatSmall(p.Floor))
+	}
+	if err := g.render(e.stdout, format); err != nil {
+		return e.fail(err)
+	}
+	if format == formatTable {
+		fmt.Fprintf(e.stdout, "%s: leading eigenvalue followed continuously in β, weight exp(β·%s), cycles to length %d (%s)\n", s.Name, sum, opts.maxLen, info.status)
+	}
+	return exitOK
 }

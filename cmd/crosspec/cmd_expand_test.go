@@ -106,3 +106,31 @@ func TestExpandErrors(t *testing.T) {
 		}
 	}
 }
+
+// TestExpandPressureCurve prints P(β) for the middle-thirds Cantor
+// repeller with the weight |Λ_p|^β: P(β) = ln 2 + (β − 1) ln 3 exactly
+// (two full branches of slope 3, common practice, no source), to a few ulps
+// through the zeta function, which is exact at length 1.
+func TestExpandPressureCurve(t *testing.T) {
+	code, stdout, stderr := runCLI("expand", "cantor", "--quantity", "lyapunov", "--betas", "0,0.5,1,2", "--max-len", "5", "--expansion", "zeta", "--format", "json")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var doc struct {
+		Points []struct{ Beta, Pressure float64 }
+	}
+	if err := json.Unmarshal([]byte(stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.Points) != 4 {
+		t.Fatalf("%d points, want 4", len(doc.Points))
+	}
+	for _, p := range doc.Points {
+		if want := math.Log(2) + (p.Beta-1)*math.Log(3); math.Abs(p.Pressure-want) > 1e-13 {
+			t.Errorf("β = %g: P = %.16g, want %.16g", p.Beta, p.Pressure, want)
+		}
+	}
+	if code, _, stderr := runCLI("expand", "cantor", "--betas", "0,x"); code != exitUsage || !strings.Contains(stderr, "--betas") {
+		t.Errorf("bad --betas: exit %d, %q", code, stderr)
+	}
+}
