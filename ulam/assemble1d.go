@@ -174,6 +174,18 @@ func assemble1D(sys *dynsys.System, g Grid, wt weight, set *Settings) (*Matrix, 
 			workers[worker] = a
 		}
 		a.pos = blk.offset
+		a.mustMerge = false
+		if len(blk.items) > 0 {
+			a.base = blk.i0
+			a.edges = grow(a.edges, blk.i1-blk.i0+1)
+			a.invWidth = grow(a.invWidth, blk.i1-blk.i0)
+			for c := blk.i0; c <= blk.i1; c++ {
+				a.edges[c-blk.i0] = g.Edge(0, c)
+			}
+			for c := blk.i0; c < blk.i1; c++ {
+				a.invWidth[c-blk.i0] = 1 / (a.edges[c+1-blk.i0] - a.edges[c-blk.i0])
+			}
+		}
 		for _, it := range blk.items {
 			if it.piece != nil {
 				a.sweep(it.piece)
@@ -181,7 +193,10 @@ func assemble1D(sys *dynsys.System, g Grid, wt weight, set *Settings) (*Matrix, 
 				a.narrow(it.group)
 			}
 		}
-		count := mergeRows(col, val, deriv, rowPtr[1:], blk.i0, blk.i1, blk.offset)
+		count := a.pos - blk.offset
+		if a.mustMerge {
+			count = mergeRows(col, val, deriv, rowPtr[1:], blk.i0, blk.i1, blk.offset)
+		}
 		for i := blk.i0; i < blk.i1; i++ {
 			cells[i] = i
 		}
@@ -323,6 +338,13 @@ type assembler1D struct {
 	pre      []float64
 	widthRow int // the row whose width is cached in width
 	width    float64
+	// edges and invWidth hold the edges of the block's cells from cell
+	// base on and the reciprocals of their widths.
+	base            int
+	edges, invWidth []float64
+	// mustMerge is set when a row of the block may hold more than one
+	// run of columns, or a run not increasing.
+	mustMerge bool
 }
 
 // emit adds the piece [a, b] of source cell i mapped into target cell t.
@@ -359,6 +381,7 @@ func (a *assembler1D) emit(i, t int, x0, x1 float64) {
 	}
 	a.pos++
 	a.rowCount[i]++
+	a.mustMerge = true
 }
 
 // sweep walks a piece from left to right, cutting it at the source cell
@@ -385,7 +408,7 @@ func (a *assembler1D) sweep(p *piece) {
 	}
 	a.pre = grow(a.pre, m)
 	pre := a.pre[:m]
-	a.solver.preimages(pre, targets, p.lo, p.hi, p.ylo, p.yhi, l)
+	a.solver.edgePreimages(pre, targets, p.lo, p.hi, p.ylo, p.yhi, l)
 	i := g.firstEdgeAbove(p.lo) - 1
 	lastEdge := g.lastEdgeBelow(p.hi)
 	if a.wt.uniform {
@@ -422,54 +445,56 @@ func (a *assembler1D) sweep(p *piece) {
 }
 
 // sweepUniform is sweep's walk for the weight w = 1, where an entry is the
-// length of its piece over the cell width: starting in source cell i and
-// target cell t on [x0, x1], with the source edges up to lastEdge and the
-// preimages pre of the target edges met in the order of t += step.
-func (a *assembler1D) sweepUniform(pre []float64, i, lastEdge, t, step int, x0, x1 float64) {
-	g := a.g
-	n := g.Shape[0]
+// length of its piece over the cell width: source cells i … lastCell
+// (lastCell the largest edge index below x1) cut by the preimages pre of
+// the target edges, met in the order of t += step starting in target cell
+// t, on [x0, x1]. Each cell receives one run of consecutive columns; on a
+// decreasing lap the run is reversed in place so that every run is
+// increasing, and only a row that receives a second run (a cell shared by
+// two laps) leaves the block to be merged.
+func (a *assembler1D) sweepUniform(pre []float64, i, lastCell, t, step int, x0, x1 float64) {
+	n := a.g.Shape[0]
 	col, val, rowCount := a.col, a.val, a.rowCount
+	edges, invWidth := a.edges, a.invWidth // of the block's cells, from a.base
 	w := a.pos
-	edge := func(i int) float64 {
-		if i <= lastEdge {
-			return g.Edge(0, i)
+	k := 0
+	for c := i; c <= lastCell; c++ {
+		left, right := x0, x1
+		if c > i {
+			left = edges[c-a.base]
 		}
-		return math.Inf(1)
-	}
-	left := g.Edge(0, max(i, 0))
-	nextEdge := edge(i + 1)
-	invWidth := 1 / (g.Edge(0, i+1) - left)
-	pos, k := x0, 0
-	count := 0
-	for pos < x1 {
-		next := min(x1, nextEdge)
-		if k < len(pre) && pre[k] < next {
-			next = pre[k]
+		if c < lastCell {
+			right = edges[c+1-a.base]
 		}
-		if next > pos && t >= 0 && t < n {
+		iw := invWidth[c-a.base]
+		start := w
+		pos := left
+		for ; k < len(pre) && pre[k] < right; k++ {
+			if x := pre[k]; x > pos {
+				if t >= 0 && t < n {
+					col[w] = t
+					val[w] = (x - pos) * iw
+					w++
+				}
+				pos = x
+			}
+			t += step
+		}
+		if right > pos && t >= 0 && t < n {
 			col[w] = t
-			val[w] = (next - pos) * invWidth
+			val[w] = (right - pos) * iw
 			w++
-			count++
 		}
-		if nextEdge == next {
-			rowCount[i] += count
-			count = 0
-			i++
-			left = nextEdge
-			nextEdge = edge(i + 1)
-			if i < n {
-				invWidth = 1 / (g.Edge(0, i+1) - left)
+		if step < 0 {
+			for p, q := start, w-1; p < q; p, q = p+1, q-1 {
+				col[p], col[q] = col[q], col[p]
+				val[p], val[q] = val[q], val[p]
 			}
 		}
-		for k < len(pre) && pre[k] <= next {
-			t += step
-			k++
+		if rowCount[c] > 0 {
+			a.mustMerge = true
 		}
-		pos = max(pos, next)
-	}
-	if count > 0 {
-		rowCount[i] += count
+		rowCount[c] += w - start
 	}
 	a.pos = w
 }
@@ -551,6 +576,7 @@ func (a *assembler1D) narrow(grp *narrowGroup) {
 			}
 			a.pos++
 			a.rowCount[grp.cell]++
+			a.mustMerge = true
 		} else if dAnti != nil {
 			dPrev = clenshaw(dAnti, tOf(next))
 		}

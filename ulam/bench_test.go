@@ -5,6 +5,7 @@ import (
 	"runtime/metrics"
 	"sync"
 	"sync/atomic"
+	"syscall"
 	"testing"
 	"time"
 
@@ -46,9 +47,14 @@ func henonMatrix(b *testing.B) *Matrix {
 // benchmarkAssemble reports, beside the time, the bytes allocated during
 // one assembly per nonzero of the result: an upper bound of the peak heap
 // growth per nonzero (nothing allocated is freed before the end).
+//
+// cpu-ms/op is the processor time (user and system, all threads) of the
+// process per assembly: on a shared machine it is less disturbed by other
+// programs' load than the wall time.
 func benchmarkAssemble(b *testing.B, sys *dynsys.System, set *Settings) {
 	var before, after runtime.MemStats
 	var allocated uint64
+	cpu0 := cpuTime()
 	for b.Loop() {
 		runtime.ReadMemStats(&before)
 		m, err := Assemble(sys, set)
@@ -59,6 +65,7 @@ func benchmarkAssemble(b *testing.B, sys *dynsys.System, set *Settings) {
 		allocated += after.TotalAlloc - before.TotalAlloc
 		benchMatrix = m
 	}
+	b.ReportMetric((cpuTime()-cpu0).Seconds()*1e3/float64(b.N), "cpu-ms/op")
 	b.ReportMetric(float64(allocated)/float64(b.N)/float64(benchMatrix.NNZ()), "alloc-B/nnz")
 	b.ReportMetric(float64(benchMatrix.NNZ()), "nnz")
 }
@@ -217,6 +224,15 @@ func BenchmarkSix1e6(b *testing.B) {
 func BenchmarkTen1e6(b *testing.B) {
 	b.Run("1D", func(b *testing.B) { benchmarkEigs(b, logisticMatrix(b), 10, 0) })
 	b.Run("Henon", func(b *testing.B) { benchmarkEigs(b, henonMatrix(b), 10, 0) })
+}
+
+// cpuTime returns the processor time used by the process so far.
+func cpuTime() time.Duration {
+	var ru syscall.Rusage
+	if err := syscall.Getrusage(syscall.RUSAGE_SELF, &ru); err != nil {
+		return 0
+	}
+	return time.Duration(ru.Utime.Nano() + ru.Stime.Nano())
 }
 
 func itoa(n int) string { return string(rune('0' + n)) }

@@ -22,9 +22,12 @@
 // and the average of a over the natural measure is d ln λ_0/dβ.
 //
 // A 1D map is assembled exactly: on each monotone lap the preimages of the
-// cell edges are found to full double precision (a batched safeguarded
-// secant iteration from inverse quadratic interpolation of samples,
-// checked against Brent's method) and each piece
+// cell edges are found to full double precision (every sixteenth by a
+// batched safeguarded secant iteration from inverse quadratic
+// interpolation of samples; those in between by a cubic continuation from
+// them and one Newton step with the cubic's slope, a coarse step whose
+// corrections are too large for the step to have converged going back to
+// the secant iteration; both checked against Brent's method) and each piece
 // B_i ∩ f⁻¹(B_j) enters with its exact length, or with Gauss–Legendre
 // quadrature of w. Laps narrower than a cell (the Gauss map near 0) are
 // integrated in the image variable: Σ_l ∫ w(x_l(y)) |x_l'(y)| dy over each

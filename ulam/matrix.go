@@ -187,15 +187,18 @@ func mulRows(dst, x []float64, rowPtr, col []int32, val []float64, lo, hi int) {
 	}
 	dst = dst[lo:hi]
 	rowPtr = rowPtr[lo : hi+1]
-	end := int(rowPtr[0])
+	// One slice of the row block's entries, walked by a running index:
+	// the rows are short (a few entries), so per-row slicing would cost
+	// more bounds checks than it saves.
+	first, last := int(rowPtr[0]), int(rowPtr[len(rowPtr)-1])
+	col, val = col[first:last], val[first:last]
+	val = val[:len(col)]
+	k := 0
 	for i := range dst {
-		start := end
-		end = int(rowPtr[i+1])
-		cols, vals := col[start:end], val[start:end]
-		vals = vals[:len(cols)]
+		end := int(rowPtr[i+1]) - first
 		var sum float64
-		for k, j := range cols {
-			sum += vals[k] * x[j]
+		for ; k < end && k < len(col); k++ {
+			sum += val[k] * x[col[k]]
 		}
 		dst[i] = sum
 	}

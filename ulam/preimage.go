@@ -31,6 +31,13 @@ type solver1D struct {
 	best, gbest []float64
 	active      []int32
 	bx, by      []float64
+	// Scratch of edgePreimages: the coarse targets and their preimages,
+	// the predicted points, their images and slopes dx/dy.
+	cy, cx, px, py, pd []float64
+	// accepted and rejected count the coarse steps of edgePreimages whose
+	// targets kept the corrected prediction or went to the bracketed
+	// solver.
+	accepted, rejected int
 }
 
 func newSolver1D(sys *dynsys.System) *solver1D { return &solver1D{sys: sys} }
