@@ -83,9 +83,12 @@ func TestUlamErrors(t *testing.T) {
 		{[]string{"ulam", "tent", "--format", "xml"}, exitUsage, "--format"},
 		{[]string{"ulam", "henon", "--quantity", "lyapunov"}, exitUsage, "1D maps only"},
 		{[]string{"ulam"}, exitUsage, "expected a SYSTEM"},
-		// A residual below round-off cannot be reached: the solver stops
-		// at its restart limit and says so, with the residuals reached.
-		{[]string{"ulam", "doubling", "--cells", "1000", "--eigs", "3", "--tol", "1e-300"}, exitNumerical, "not converged"},
+		// A residual below round-off cannot be reached (unless the Krylov
+		// space happens to be exactly invariant, as it is for some Ulam
+		// matrices with repeated rows, where the residual is exactly 0):
+		// the solver stops at its restart limit and says so, with the
+		// residuals reached.
+		{[]string{"ulam", "tent", "--cells", "999", "--eigs", "3", "--tol", "1e-300"}, exitNumerical, "not converged"},
 	} {
 		code, stdout, stderr := runCLI(c.args...)
 		if code != c.code || stdout != "" || strings.Count(stderr, "\n") != 1 || !strings.Contains(stderr, c.msg) || !strings.HasPrefix(stderr, "crosspec ulam: ") {

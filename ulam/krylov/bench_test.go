@@ -53,7 +53,7 @@ func circleBench() *csr {
 func benchmarkEigs(b *testing.B, a *csr, set Settings) {
 	op := &timedOperator{Operator: a}
 	set.Vectors = true
-	var matVecs, restarts, subspace int
+	var matVecs, restarts, subspace, reorth int
 	var total time.Duration
 	converged := 0
 	worst := 0.0
@@ -72,6 +72,7 @@ func benchmarkEigs(b *testing.B, a *csr, set Settings) {
 		}
 		matVecs += res.Stats.MatVecs
 		restarts += res.Stats.Restarts
+		reorth += res.Stats.Reorthogonalizations
 		subspace = res.Stats.Subspace
 		benchResult = res
 	}
@@ -83,6 +84,7 @@ func benchmarkEigs(b *testing.B, a *csr, set Settings) {
 	b.ReportMetric((total-op.elapsed).Seconds()*1e3/n, "solver-ms/op")
 	b.ReportMetric(float64(converged)/n, "converged")
 	b.ReportMetric(worst/1e-12, "residual/1e-12")
+	b.ReportMetric(float64(reorth)/n, "reorth/op")
 }
 
 // BenchmarkEigs1e6Leading: the leading eigenvalue by the default path

@@ -13,13 +13,20 @@
 // V_{p+1} = [V_p v_p] with orthonormal columns, and alternates two phases:
 //
 //   - expansion: Arnoldi steps w = A v_j, orthogonalised against the basis by
-//     classical Gram–Schmidt, with a second pass when the first one cancels
-//     more than 1 − 1/√2 of the norm (J. W. Daniel, W. B. Gragg, L. Kaufman
-//     and G. W. Stewart, Math. Comp. 30 (1976) 772–795), the norm after a
-//     pass taken as ‖w‖² − ‖h‖² (Pythagoras; A. Smoktunowicz, J. L. Barlow
-//     and J. Langou, Numer. Math. 105 (2006) 299–313, from memory) so that
-//     the normalisation shares the last sweep over the basis, until the
-//     basis has m vectors;
+//     classical Gram–Schmidt applied twice, the second pass delayed by one
+//     step (D. Bielich, J. Langou, S. Thomas, K. Świrydowicz, I. Yamazaki
+//     and E. G. Boman, Parallel Computing 112 (2022) 102940, from memory):
+//     A is applied to the once-orthogonalised vector v'_j, and one sweep
+//     over the basis forms both Vᵀv'_j (the second pass of v'_j) and
+//     Vᵀ A v'_j; the Arnoldi relation A V = V H + … turns these into the
+//     coefficients of A v_j for the final v_j without touching the basis,
+//     and a second sweep writes v_j and the once-orthogonalised v'_{j+1}:
+//     two sweeps a step instead of three. The last vector of a cycle gets
+//     its second pass before the restart. A second pass that cancels more
+//     than 1 − 1/√2 of the norm (the criterion of J. W. Daniel,
+//     W. B. Gragg, L. Kaufman and G. W. Stewart, Math. Comp. 30 (1976)
+//     772–795) shows a vector in the span to working precision (see
+//     below). The expansion runs until the basis has m vectors;
 //   - contraction: the m×m Rayleigh quotient H = V_mᵀ A V_m is brought to real
 //     Schur form H = Q T Qᵀ (LAPACK's Dgehrd, Dorghr, Dhseqr in gonum), the
 //     diagonal blocks of largest modulus are moved to the top by orthogonal
@@ -75,14 +82,17 @@
 // # Performance and determinism
 //
 // The basis is one contiguous array of n·(m+1) numbers, column after column.
-// The long-vector kernels (the Gram–Schmidt projections and updates, the
-// basis rotation V_m Q at a restart, done in place one block of rows at a
-// time) run over fixed blocks of 16384 rows spread over the cores; partial
-// dot products are kept per block and summed in block order. An Arnoldi
-// step sweeps the basis twice when one Gram–Schmidt pass suffices and three
-// times when the second is needed (first projection; first update fused
-// with the second projection, sub-block by sub-block in cache; second
-// update fused with the normalisation). Results are therefore the same
-// bytes whatever GOMAXPROCS is, provided the Operator is itself
-// deterministic.
+// The long-vector kernels (the Gram–Schmidt sweeps, the basis rotation
+// V_m Q at a restart, done in place) run over fixed blocks of 16384 rows
+// spread over the cores, and within a block over sub-blocks that keep the
+// vectors being written in cache; partial dot products are kept per block
+// and summed in block order. The inner kernels take four basis vectors and
+// two target vectors at a time, with AVX2 fused multiply–adds where the
+// processor has them (kernels_amd64.s) and otherwise a portable loop doing
+// the same exactly rounded operations in the same order (math.FMA). On
+// the 2-core reference machine the two fused sweeps of a step read the
+// basis at about 26 GB/s, against 13–18 GB/s for the same sweeps built on
+// the two-lane loops of gonum's floats, which were limited by arithmetic,
+// not by memory. Results are the same bytes whatever GOMAXPROCS is (and
+// whichever kernel runs), provided the Operator is itself deterministic.
 package krylov

@@ -1,6 +1,7 @@
 package krylov
 
 import (
+	"math"
 	"runtime"
 	"sync"
 	"sync/atomic"
@@ -81,17 +82,31 @@ type basis struct {
 	blocks  int
 }
 
-func newBasis(n, cols int) *basis {
+// newBasis returns a basis of cols vectors of length n with room to
+// extend to capCols vectors without moving them (see extend). The room is
+// reserved address space: pages the solver never writes are never touched.
+func newBasis(n, cols, capCols int) *basis {
+	capCols = max(cols, capCols)
 	blocks := (n + blockRows - 1) / blockRows
-	stride := cols + 1
+	stride := 2*capCols + 3 // projectPair's partial sums
 	return &basis{
 		n:       n,
 		cols:    cols,
-		v:       make([]float64, n*cols),
+		v:       make([]float64, n*cols, n*capCols),
 		partial: make([]float64, blocks*stride),
 		stride:  stride,
 		blocks:  blocks,
 	}
+}
+
+// extend makes room for cols vectors, keeping the current ones in place
+// (the columns are stored one after another, so growing moves nothing).
+func (b *basis) extend(cols int) {
+	if cols*b.n > cap(b.v) || 2*cols+3 > b.stride {
+		panic("krylov: basis extended beyond its capacity")
+	}
+	b.v = b.v[:cols*b.n]
+	b.cols = cols
 }
 
 // col returns basis vector j.
@@ -150,40 +165,111 @@ func (b *basis) subtract(w, h []float64, q int, scale float64) float64 {
 	return norm2
 }
 
-// subBlockRows is the number of rows of the sub-blocks of a fused sweep
-// (subtractProject): the q basis vectors of a sub-block stay in a core's
-// cache between the update and the projection. Measured on the reference
-// machine with q = 30 and 10⁶ rows: 13–14 ms a sweep with 4096 rows, 15 ms
-// with 2048 or 16384, 17.6 ms with 1024, against 16.5 ms for a separate
-// update and projection.
+// subBlockRows is the number of rows of the sub-blocks of the fused
+// sweeps (projectPair, updatePair): the two vectors being worked on, 2 ×
+// 32 KiB of a sub-block, stay in a core's cache while the basis streams
+// past.
 const subBlockRows = 4096
 
-// subtractProject performs w ← w − Σ_{l<q} h[l] v_l and sets
-// again[l] = v_lᵀ w for the updated w, in one sweep over the basis: each
-// sub-block of rows is updated and then projected while it is in cache.
-// It returns the new ‖w‖². again must have length at least q+1.
-func (b *basis) subtractProject(w, h []float64, q int, again []float64) float64 {
+// projectPair makes one sweep over the first q basis vectors, x and z,
+// setting s[l] = v_lᵀ x and g[l] = v_lᵀ z for l < q, and returns xᵀx,
+// xᵀz and zᵀz. s and g must have length at least q.
+func (b *basis) projectPair(s, g []float64, q int, x, z []float64) (xx, xz, zz float64) {
 	forBlocks(b.n, func(_, blk, lo, hi int) {
-		p := b.partial[blk*b.stride : blk*b.stride+q+1]
+		p := b.partial[blk*b.stride : blk*b.stride+2*q+3]
 		clear(p)
 		for sub := lo; sub < hi; sub += subBlockRows {
 			end := min(sub+subBlockRows, hi)
-			wb := w[sub:end]
-			for l := range q {
-				if h[l] != 0 {
-					floats.AddScaled(wb, -h[l], b.v[l*b.n+sub:l*b.n+end])
+			xb, zb := x[sub:end], z[sub:end]
+			l := 0
+			for ; l+4 <= q; l += 4 {
+				dots4x2(p[l:l+4], p[q+l:q+l+4], b.v[l*b.n+sub:l*b.n+end], b.v[(l+1)*b.n+sub:(l+1)*b.n+end],
+					b.v[(l+2)*b.n+sub:(l+2)*b.n+end], b.v[(l+3)*b.n+sub:(l+3)*b.n+end], xb, zb)
+			}
+			if r := q - l; r > 0 {
+				// The last one to three vectors, the missing slots filled
+				// with v_l again (their sums are dropped).
+				var vs [4][]float64
+				for i := range 4 {
+					vs[i] = b.v[(l+min(i, r-1))*b.n+sub : (l+min(i, r-1))*b.n+end]
+				}
+				var sx, sz [4]float64
+				dots4x2(sx[:], sz[:], vs[0], vs[1], vs[2], vs[3], xb, zb)
+				for i := range r {
+					p[l+i] += sx[i]
+					p[q+l+i] += sz[i]
 				}
 			}
-			for l := range q {
-				p[l] += floats.Dot(b.v[l*b.n+sub:l*b.n+end], wb)
-			}
-			p[q] += floats.Dot(wb, wb)
+			p[2*q] += floats.Dot(xb, xb)
+			p[2*q+1] += floats.Dot(xb, zb)
+			p[2*q+2] += floats.Dot(zb, zb)
 		}
 	})
-	b.reduce(again, q+1)
-	norm2 := again[q]
-	again[q] = 0
-	return norm2
+	count := 2*q + 3
+	for i := range count {
+		var sum float64
+		for blk := range b.blocks {
+			sum += b.partial[blk*b.stride+i]
+		}
+		switch {
+		case i < q:
+			s[i] = sum
+		case i < 2*q:
+			g[i-q] = sum
+		case i == 2*q:
+			xx = sum
+		case i == 2*q+1:
+			xz = sum
+		default:
+			zz = sum
+		}
+	}
+	return xx, xz, zz
+}
+
+// updatePair makes one sweep over the first q basis vectors, performing
+//
+//	x ← xScale·x − Σ_{l<q} s[l] v_l,
+//	z ← zScale·z − Σ_{l<q} c[l] v_l − c[q] x   (x the updated vector),
+//
+// sub-block by sub-block so that x is updated in cache before it is used,
+// and returns the new zᵀz.
+func (b *basis) updatePair(x []float64, xScale float64, s []float64, q int, z []float64, zScale float64, c []float64) float64 {
+	forBlocks(b.n, func(_, blk, lo, hi int) {
+		var zz float64
+		for sub := lo; sub < hi; sub += subBlockRows {
+			end := min(sub+subBlockRows, hi)
+			xb, zb := x[sub:end], z[sub:end]
+			floats.Scale(xScale, xb)
+			floats.Scale(zScale, zb)
+			l := 0
+			for ; l+4 <= q; l += 4 {
+				axpy4x2(xb, zb, s[l:l+4], c[l:l+4], b.v[l*b.n+sub:l*b.n+end], b.v[(l+1)*b.n+sub:(l+1)*b.n+end],
+					b.v[(l+2)*b.n+sub:(l+2)*b.n+end], b.v[(l+3)*b.n+sub:(l+3)*b.n+end])
+			}
+			if r := q - l; r > 0 {
+				// The last one to three vectors, the missing slots with
+				// zero coefficients (fma(−0, v, x) = x).
+				var vs [4][]float64
+				var sr, cr [4]float64
+				for i := range 4 {
+					vs[i] = b.v[(l+min(i, r-1))*b.n+sub : (l+min(i, r-1))*b.n+end]
+					if i < r {
+						sr[i], cr[i] = s[l+i], c[l+i]
+					}
+				}
+				axpy4x2(xb, zb, sr[:], cr[:], vs[0], vs[1], vs[2], vs[3])
+			}
+			floats.AddScaled(zb, -c[q], xb)
+			zz += floats.Dot(zb, zb)
+		}
+		b.partial[blk*b.stride] = zz
+	})
+	var zz float64
+	for blk := range b.blocks {
+		zz += b.partial[blk*b.stride]
+	}
+	return zz
 }
 
 // scale performs x ← alpha x.
@@ -207,28 +293,124 @@ func (b *basis) rotate(q, p int, qmat []float64, ldq int) {
 
 // multiplyTo writes the columns of V Q into dst, column c at
 // dst[c*ldd : c*ldd+n]; dst may be the basis itself (see rotate).
+//
+// Each goroutine forms the p output columns for one sub-block of
+// rotateRows rows at a time in a scratch that stays in its cache, two
+// columns by four basis vectors per call of axpy4x2, then copies them out.
 func (b *basis) multiplyTo(dst []float64, ldd, q, p int, qmat []float64, ldq int) {
 	workers := workersFor(b.n)
 	scratch := make([][]float64, workers)
 	for i := range scratch {
-		scratch[i] = make([]float64, p*blockRows)
+		scratch[i] = make([]float64, (p+1)*rotateRows)
 	}
 	forBlocks(b.n, func(worker, _, lo, hi int) {
-		rows := hi - lo
-		s := scratch[worker][:p*rows]
-		for i := range s {
-			s[i] = 0
+		for sub := lo; sub < hi; sub += rotateRows {
+			end := min(sub+rotateRows, hi)
+			rows := end - sub
+			s := scratch[worker][:(p+1)*rows]
+			clear(s)
+			for c := 0; c < p; c += 2 {
+				// Columns c and c+1 (a dummy past the last).
+				x, z := s[c*rows:(c+1)*rows], s[(c+1)*rows:(c+2)*rows]
+				c1 := min(c+1, p-1)
+				var cx, cz [4]float64
+				l := 0
+				for ; l+4 <= q; l += 4 {
+					for i := range 4 {
+						cx[i] = -qmat[(l+i)*ldq+c]
+						cz[i] = -qmat[(l+i)*ldq+c1]
+						if c+1 == p {
+							cz[i] = 0
+						}
+					}
+					axpy4x2(x, z, cx[:], cz[:], b.v[l*b.n+sub:l*b.n+end], b.v[(l+1)*b.n+sub:(l+1)*b.n+end],
+						b.v[(l+2)*b.n+sub:(l+2)*b.n+end], b.v[(l+3)*b.n+sub:(l+3)*b.n+end])
+				}
+				for ; l < q; l++ {
+					v := b.v[l*b.n+sub : l*b.n+end]
+					v = v[:rows]
+					a := qmat[l*ldq+c]
+					for i, vi := range v {
+						x[i] = math.FMA(a, vi, x[i])
+					}
+					if c+1 < p {
+						a := qmat[l*ldq+c+1]
+						for i, vi := range v {
+							z[i] = math.FMA(a, vi, z[i])
+						}
+					}
+				}
+			}
+			for c := range p {
+				copy(dst[c*ldd+sub:c*ldd+end], s[c*rows:(c+1)*rows])
+			}
 		}
-		for c := range p {
-			sc := s[c*rows : (c+1)*rows]
-			for l := range q {
-				if x := qmat[l*ldq+c]; x != 0 {
-					floats.AddScaled(sc, x, b.v[l*b.n+lo:l*b.n+hi])
+	})
+}
+
+// rotateRows is the number of rows of the sub-blocks of multiplyTo: with
+// p ≤ 60 output columns its scratch of (p+1)·rotateRows numbers (under
+// 0.5 MB) stays in a core's L2 cache.
+const rotateRows = 1024
+
+// dots4x2 adds v_iᵀx to sx[i] and v_iᵀz to sz[i] for the four vectors
+// v_0…v_3, reading x and z once. Each sum is formed in four lanes (row r
+// into lane r mod 4) by fused multiply–adds, the lanes added as
+// (l0 + l1) + (l2 + l3), then the rows past the last multiple of 4 added
+// in order. The AVX2 kernel and the portable loop follow exactly this
+// order, and math.FMA is exactly rounded everywhere, so the result is the
+// same bytes on every machine.
+func dots4x2(sx, sz []float64, v0, v1, v2, v3, x, z []float64) {
+	n := len(x)
+	v0, v1, v2, v3, z = v0[:n], v1[:n], v2[:n], v3[:n], z[:n]
+	var acc [32]float64 // acc[8k+lane]: v_k·x; acc[8k+4+lane]: v_k·z
+	body := n &^ 3
+	if useFMA4 && body > 0 {
+		dots4x2Asm(&v0[0], &v1[0], &v2[0], &v3[0], &x[0], &z[0], body, &acc)
+	} else {
+		vs := [4][]float64{v0, v1, v2, v3}
+		for i := 0; i < body; i += 4 {
+			for lane := range 4 {
+				xi, zi := x[i+lane], z[i+lane]
+				for k, v := range vs {
+					a := v[i+lane]
+					acc[8*k+lane] = math.FMA(a, xi, acc[8*k+lane])
+					acc[8*k+4+lane] = math.FMA(a, zi, acc[8*k+4+lane])
 				}
 			}
 		}
-		for c := range p {
-			copy(dst[c*ldd+lo:c*ldd+hi], s[c*rows:(c+1)*rows])
+	}
+	vs := [4][]float64{v0, v1, v2, v3}
+	for k, v := range vs {
+		ax := (acc[8*k] + acc[8*k+1]) + (acc[8*k+2] + acc[8*k+3])
+		az := (acc[8*k+4] + acc[8*k+5]) + (acc[8*k+6] + acc[8*k+7])
+		for i := body; i < n; i++ {
+			ax = math.FMA(v[i], x[i], ax)
+			az = math.FMA(v[i], z[i], az)
 		}
-	})
+		sx[k] += ax
+		sz[k] += az
+	}
+}
+
+// axpy4x2 performs x ← x − Σ_i s[i] v_i and z ← z − Σ_i c[i] v_i over
+// the four vectors v_0…v_3, reading and writing x and z once, each entry
+// by four nested fused multiply–adds in the order v_0…v_3 (the AVX2 kernel
+// does the same, so the bytes do not depend on the machine).
+func axpy4x2(x, z, s, c []float64, v0, v1, v2, v3 []float64) {
+	n := len(x)
+	v0, v1, v2, v3, z = v0[:n], v1[:n], v2[:n], v3[:n], z[:n]
+	coef := [8]float64{-s[0], -s[1], -s[2], -s[3], -c[0], -c[1], -c[2], -c[3]}
+	start := 0
+	if body := n &^ 3; useFMA4 && body > 0 {
+		axpy4x2Asm(&x[0], &z[0], body, &coef, &v0[0], &v1[0], &v2[0], &v3[0])
+		start = body
+	}
+	s0, s1, s2, s3 := coef[0], coef[1], coef[2], coef[3]
+	c0, c1, c2, c3 := coef[4], coef[5], coef[6], coef[7]
+	for i := start; i < n; i++ {
+		a, b, cc, d := v0[i], v1[i], v2[i], v3[i]
+		x[i] = math.FMA(s3, d, math.FMA(s2, cc, math.FMA(s1, b, math.FMA(s0, a, x[i]))))
+		z[i] = math.FMA(c3, d, math.FMA(c2, cc, math.FMA(c1, b, math.FMA(c0, a, z[i]))))
+	}
 }
