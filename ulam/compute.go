@@ -215,29 +215,22 @@ func (res *Result) addStats(s krylov.Stats, status krylov.Status) {
 // |f'|^(1−s) by Brent's method on [0, 1].
 func computeDimension(sys *dynsys.System, set Settings, sv SolveSettings, res Result) (Result, error) {
 	set.Observable, set.Derivative = LogExpansion, false
-	var failure error
 	var last Result
-	logLambda := func(s float64) float64 {
+	value, err := BowenRoot(func(s float64) (float64, error) {
 		set.Beta = 1 - s
 		m, err := Assemble(sys, &set)
 		res.Assemblies++
 		if err != nil {
-			failure = err
-			return math.NaN()
+			return 0, err
 		}
 		r := Result{Status: krylov.Converged}
 		if err := r.eigen(m, sv); err != nil {
-			failure = err
-			return math.NaN()
+			return 0, err
 		}
 		res.addStats(r.Stats, r.Status)
 		r.Matrix = m
 		last = r
-		return math.Log(real(r.Eigenvalues[0]))
-	}
-	value, err := BowenRoot(func(s float64) (float64, error) {
-		g := logLambda(s)
-		return g, failure
+		return math.Log(real(r.Eigenvalues[0])), nil
 	})
 	if err != nil {
 		return res, fmt.Errorf("ulam: %s: %w", sys.Name, err)

@@ -443,38 +443,29 @@ func (res *Result) addStats(s krylov.Stats, status krylov.Status) {
 // |f'|^(1−s) by Brent's method on [0, 1].
 func computeDimension(sys *dynsys.System, set Settings, sv ulam.SolveSettings, res Result) (Result, error) {
 	set.Observable, set.Derivative = ulam.LogExpansion, false
-	var failure error
 	var last Result
-	logLambda := func(s float64) float64 {
+	value, err := ulam.BowenRoot(func(s float64) (float64, error) {
 		set.Beta = 1 - s
 		m, err := Assemble(sys, &set)
 		res.Assemblies++
 		if err != nil {
-			failure = err
-			return math.NaN()
+			return 0, err
 		}
 		r := Result{Status: krylov.Converged}
 		if err := r.eigen(m, sv); err != nil {
-			failure = err
-			return math.NaN()
+			return 0, err
 		}
 		res.addStats(r.Stats, r.Status)
 		r.setMatrix(m)
 		last = r
 		if tailLaps(m) > 0 && s != 1 {
-			failure = ErrLogTail
-			return math.NaN()
+			return 0, ErrLogTail
 		}
 		l0 := r.Eigenvalues[0]
 		if imag(l0) != 0 || !(real(l0) > 0) {
-			failure = fmt.Errorf("%w: %s at s = %g: %v", ErrLeading, sys.Name, s, l0)
-			return math.NaN()
+			return 0, fmt.Errorf("%w: %s at s = %g: %v", ErrLeading, sys.Name, s, l0)
 		}
-		return math.Log(real(l0))
-	}
-	value, err := ulam.BowenRoot(func(s float64) (float64, error) {
-		g := logLambda(s)
-		return g, failure
+		return math.Log(real(l0)), nil
 	})
 	if err != nil {
 		return res, fmt.Errorf("galerkin: %s: %w", sys.Name, err)
