@@ -560,7 +560,7 @@ type jsonCheckCyc struct {
 func (r *checkResult) json() jsonCheck {
 	doc := jsonCheck{
 		System: r.system.Name, Quantity: string(r.opts.quantity), Beta: r.opts.beta,
-		Ulam: jsonCheckUlam{Runs: r.ulamRuns, Estimate: jsonFloat(r.ulamEst.Value), Error: jsonFloat(r.ulamEst.Error),
+		Ulam: jsonCheckUlam{Runs: append([]ulamRunJSON{}, r.ulamRuns...), Estimate: jsonFloat(r.ulamEst.Value), Error: jsonFloat(r.ulamEst.Error),
 			Status: r.ulamEst.Status.String(), Reason: r.ulamEst.Reason},
 		Cycles: jsonCheckCyc{Estimate: jsonFloat(r.cyclesEst.Value), Error: jsonFloat(r.cyclesEst.Error), Status: r.cyclesEst.Status.String(),
 			Reason: r.cyclesEst.Reason, RecommendedMaxLen: r.advice.CycleLength, Source: r.info.status},
