@@ -335,6 +335,8 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 	if d := r.expansion.Diagnostics; d.Stalled {
 		stalled = fmt.Sprintf("the cycle expansion's coefficients stop decreasing at length %d: missing cycles, pruning or marginal cycles", d.StallLen)
 	}
+	r.ulamEst = compare.Estimate{Value: math.NaN(), Error: math.NaN(), Last: math.NaN(), Order: math.NaN(),
+		Status: compare.TooFewPoints, Reason: "the Ulam path was not run (--methods)"}
 	if len(cells) > 0 {
 		r.ulamEst = compare.Ulam(cells, ulamValues, nil)
 		r.comparison = compare.ComparePaths(compare.Path{Name: "ulam", Estimate: r.ulamEst, Erratic: true}, cyclesPath)
