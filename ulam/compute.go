@@ -117,16 +117,7 @@ func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *S
 		return res, err
 	}
 	lambda0 := res.Eigenvalues[0]
-	switch q {
-	case dynsys.Eigenvalues:
-		res.Value = real(lambda0)
-	case dynsys.EscapeRate:
-		res.Value = -math.Log(real(lambda0))
-	case dynsys.Pressure:
-		res.Value = math.Log(real(lambda0))
-	case dynsys.DecayRate:
-		res.Value = -math.Log(cmplx.Abs(res.Eigenvalues[1]) / cmplx.Abs(lambda0))
-	}
+	res.Value = SpectrumValue(q, res.Eigenvalues)
 	if needPair {
 		if err := res.leading(m, sv); err != nil {
 			return res, err
@@ -284,4 +275,24 @@ func BowenRoot(logLambda func(s float64) (float64, error)) (float64, error) {
 		return 0, failure
 	}
 	return r.X, nil
+}
+
+// SpectrumValue returns the quantity q that follows from the leading
+// eigenvalues alone (DESIGN.md section 4): λ_0 for Eigenvalues, −ln λ_0
+// for EscapeRate, ln λ_0 for Pressure, −ln |λ_1/λ_0| for DecayRate (which
+// needs two eigenvalues); zero for the quantities that need eigenvectors
+// or a root search (mean, Lyapunov exponent, dimension).
+func SpectrumValue(q dynsys.Quantity, eigenvalues []complex128) float64 {
+	lambda0 := eigenvalues[0]
+	switch q {
+	case dynsys.Eigenvalues:
+		return real(lambda0)
+	case dynsys.EscapeRate:
+		return -math.Log(real(lambda0))
+	case dynsys.Pressure:
+		return math.Log(real(lambda0))
+	case dynsys.DecayRate:
+		return -math.Log(cmplx.Abs(eigenvalues[1]) / cmplx.Abs(lambda0))
+	}
+	return 0
 }

@@ -334,7 +334,7 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 // at the preimages of the target cell edges, and each part, which f maps
 // into one target cell i, is integrated by Gauss–Legendre quadrature in x.
 func (a *cellAssembler) integrate(l dynsys.Lap, j int, u0, u1, y0, y1, scale float64) error {
-	edges, nb := a.edges, a.p+1
+	edges := a.edges
 	n := len(edges) - 1
 	ymin, ymax := min(y0, y1), max(y0, y1)
 	a.pre = a.pre[:0]
@@ -389,23 +389,33 @@ func (a *cellAssembler) integrate(l dynsys.Lap, j int, u0, u1, y0, y1, scale flo
 			if math.IsNaN(c) || math.IsInf(c, 0) {
 				return fmt.Errorf("galerkin: %s: weight not finite at x = %g", a.sys.Name, x)
 			}
-			legendreTo(a.srcBasis, 2*(x-cj0)/hj-1, hj)
-			legendreTo(a.tgtBasis, 2*(y-ci0)/hi-1, hi)
-			for b := range nb {
-				cb := c * a.srcBasis[b]
-				rowOff := b*n*nb + i*nb
-				for cc := range nb {
-					a.row[rowOff+cc] += cb * a.tgtBasis[cc]
-				}
-				if a.drow != nil {
-					for cc := range nb {
-						a.drow[rowOff+cc] += cb * obs * a.tgtBasis[cc]
-					}
-				}
-			}
+			a.accumulate(i, c, obs, 2*(x-cj0)/hj-1, hj, 2*(y-ci0)/hi-1, hi)
 		}
 	}
 	return nil
+}
+
+// accumulate adds one quadrature node's contribution c·φ_{j,b}(x)·ψ_{i,a}(y)
+// to the row of source cell j, target cell i (and c·a(x) times it to the
+// derivative row): u and v are x and y mapped to [−1, 1] on cells of widths
+// hj and hi.
+func (a *cellAssembler) accumulate(i int, c, obs, u, hj, v, hi float64) {
+	nb := a.p + 1
+	n := len(a.edges) - 1
+	legendreTo(a.srcBasis, u, hj)
+	legendreTo(a.tgtBasis, v, hi)
+	for b := range nb {
+		cb := c * a.srcBasis[b]
+		rowOff := b*n*nb + i*nb
+		for cc := range nb {
+			a.row[rowOff+cc] += cb * a.tgtBasis[cc]
+		}
+		if a.drow != nil {
+			for cc := range nb {
+				a.drow[rowOff+cc] += cb * obs * a.tgtBasis[cc]
+			}
+		}
+	}
 }
 
 // integrateImage adds scale times the integrals of the whole lap l
@@ -415,7 +425,7 @@ func (a *cellAssembler) integrate(l dynsys.Lap, j int, u0, u1, y0, y1, scale flo
 // of the tail model, whose end points carry a relative error of order
 // ε·x/width when the integral is taken in x; in y nothing cancels.
 func (a *cellAssembler) integrateImage(l dynsys.Lap, j int, ya, yb, scale float64) error {
-	edges, nb := a.edges, a.p+1
+	edges := a.edges
 	n := len(edges) - 1
 	ymin, ymax := min(ya, yb), max(ya, yb)
 	cj0, hj := edges[j], edges[j+1]-edges[j]
@@ -439,20 +449,7 @@ func (a *cellAssembler) integrateImage(l dynsys.Lap, j int, ya, yb, scale float6
 			if math.IsNaN(c) || math.IsInf(c, 0) {
 				return fmt.Errorf("galerkin: %s: weight or slope not finite at x = %g", a.sys.Name, x)
 			}
-			legendreTo(a.srcBasis, 2*(x-cj0)/hj-1, hj)
-			legendreTo(a.tgtBasis, 2*(y-ci0)/hi-1, hi)
-			for b := range nb {
-				cb := c * a.srcBasis[b]
-				rowOff := b*n*nb + i*nb
-				for cc := range nb {
-					a.row[rowOff+cc] += cb * a.tgtBasis[cc]
-				}
-				if a.drow != nil {
-					for cc := range nb {
-						a.drow[rowOff+cc] += cb * obs * a.tgtBasis[cc]
-					}
-				}
-			}
+			a.accumulate(i, c, obs, 2*(x-cj0)/hj-1, hj, 2*(y-ci0)/hi-1, hi)
 		}
 	}
 	return nil

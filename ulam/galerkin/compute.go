@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"math/cmplx"
 	"slices"
 
 	"crosspec/dynsys"
@@ -280,16 +279,7 @@ func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *u
 	if q != dynsys.Eigenvalues && (imag(lambda0) != 0 || !(real(lambda0) > 0)) {
 		return res, fmt.Errorf("%w: %s: %v", ErrLeading, sys.Name, lambda0)
 	}
-	switch q {
-	case dynsys.Eigenvalues:
-		res.Value = real(lambda0)
-	case dynsys.EscapeRate:
-		res.Value = -math.Log(real(lambda0))
-	case dynsys.Pressure:
-		res.Value = math.Log(real(lambda0))
-	case dynsys.DecayRate:
-		res.Value = -math.Log(cmplx.Abs(res.Eigenvalues[1]) / cmplx.Abs(lambda0))
-	}
+	res.Value = ulam.SpectrumValue(q, res.Eigenvalues)
 	if needPair {
 		if err := res.leading(m, sv, set); err != nil {
 			return res, err
