@@ -158,18 +158,22 @@ func GradedEdges(lo, hi float64, n int, ratio float64) []float64 {
 
 // cellAssembler integrates one source cell's row block at a time.
 type cellAssembler struct {
-	sys      *dynsys.System
-	edges    []float64
-	p        int
-	wt       weight
-	deriv    bool
-	qx, qw   []float64
-	row      []float64 // (p+1) × N(p+1), row-major
-	drow     []float64
-	touched  []bool
-	srcBasis []float64
-	tgtBasis []float64
-	pre      []float64
+	sys     *dynsys.System
+	edges   []float64
+	p       int
+	wt      weight
+	deriv   bool
+	qx, qw  []float64
+	row     []float64 // (p+1) × N(p+1), row-major
+	drow    []float64
+	touched []bool
+	// Per target cell of the current row block: the number of quadrature
+	// terms, Σ|c| and Σ|c·a| over them (roundOff).
+	terms      []int
+	sumC, sumD []float64
+	srcBasis   []float64
+	tgtBasis   []float64
+	pre        []float64
 }
 
 // AssembleCells builds the Galerkin matrix of a 1D map on the piecewise
@@ -196,8 +200,9 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 	a := &cellAssembler{
 		sys: sys, edges: edges, p: p, wt: wt, deriv: set.Derivative,
 		qx: make([]float64, set.Quadrature), qw: make([]float64, set.Quadrature),
-		row:      make([]float64, nb*n*nb),
-		touched:  make([]bool, n),
+		row:     make([]float64, nb*n*nb),
+		touched: make([]bool, n),
+		terms:   make([]int, n), sumC: make([]float64, n), sumD: make([]float64, n),
 		srcBasis: make([]float64, nb), tgtBasis: make([]float64, nb),
 	}
 	if a.deriv {
@@ -282,6 +287,9 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 			clear(a.drow)
 		}
 		clear(a.touched)
+		clear(a.terms)
+		clear(a.sumC)
+		clear(a.sumD)
 		for _, pc := range pieces[j] {
 			if err := a.integrate(ls.Laps[pc.lap], j, pc.u0, pc.u1, pc.y0, pc.y1, 1); err != nil {
 				return nil, err
@@ -307,16 +315,28 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 				if !a.touched[i] {
 					continue
 				}
+				hj, hi := edges[j+1]-edges[j], edges[i+1]-edges[i]
 				for c := range nb {
 					col := i*nb + c
+					bound := a.roundOff(b, c, i, hj, hi)
 					v := a.row[b*n*nb+col]
-					if v == 0 && (a.drow == nil || a.drow[b*n*nb+col] == 0) {
+					if math.Abs(v) <= bound*a.sumC[i] {
+						v = 0
+					}
+					var dv float64
+					if a.drow != nil {
+						dv = a.drow[b*n*nb+col]
+						if math.Abs(dv) <= bound*a.sumD[i] {
+							dv = 0
+						}
+					}
+					if v == 0 && dv == 0 {
 						continue
 					}
 					m.Col = append(m.Col, col)
 					m.Val = append(m.Val, v)
 					if a.drow != nil {
-						m.Derivative = append(m.Derivative, a.drow[b*n*nb+col])
+						m.Derivative = append(m.Derivative, dv)
 					}
 				}
 			}
@@ -361,7 +381,7 @@ func (a *cellAssembler) integrate(l dynsys.Lap, j int, u0, u1, y0, y1, scale flo
 	cj0, hj := edges[j], edges[j+1]-edges[j]
 	for k := 0; k+1 < len(a.pre); k++ {
 		x0, x1 := a.pre[k], a.pre[k+1]
-		if !(x1 > x0) {
+		if !(x1-x0 > a.sliver()) {
 			continue
 		}
 		// The target cell: the k-th one crossed.
@@ -395,6 +415,42 @@ func (a *cellAssembler) integrate(l dynsys.Lap, j int, u0, u1, y0, y1, scale flo
 	return nil
 }
 
+// sliver returns the width below which a piece cut at preimages of cell
+// edges is left out: 4ε·X, X the largest |end| of the domain, a few units
+// in the last place of the edges and preimages that bound it. A piece that
+// narrow cannot be told from an empty one (its ends are known only to
+// about ε·X) and carries at most that much mass; it appears where an edge
+// maps onto an edge in exact arithmetic but not in floating point (N = 60
+// for the doubling map: 2·(k/60) and the edge 2k/60 differ by an ulp),
+// and there its tiny entries would couple polynomial degrees that a
+// linear branch keeps apart (see roundOff).
+func (a *cellAssembler) sliver() float64 {
+	return 4 * 0x1p-53 * max(math.Abs(a.edges[0]), math.Abs(a.edges[len(a.edges)-1]))
+}
+
+// roundOff returns the factor that, times Σ|c| (or Σ|c·a|) over the
+// quadrature terms of source cell j and target cell i, bounds the
+// round-off of the entry (j, b), (i, c): each term c·φ_b·ψ_c is at most
+// |c|·√((2b+1)/h_j)·√((2c+1)/h_i) (|P_a| ≤ 1 on [−1, 1]) and carries an
+// error of about (b + c + 6)·ε relative to that bound (Bonnet's recurrence
+// adds about ε per degree, the products a few ε), plus that of its local
+// coordinates: x and y are known to ε·X (X the largest |end| of the
+// domain), the local u = 2(x − x_j)/h_j − 1 to δ_j = 4ε·X/h_j, and P_b moves
+// by at most |P_b'|·δ_j ≤ b(b+1)/2·δ_j (Markov's inequality). A sum of m
+// terms adds (m − 1)·ε of their absolute sum (N. J. Higham, Accuracy and
+// Stability of Numerical Algorithms, 2nd ed., SIAM 2002, §4.2). An entry
+// below its
+// bound has no correct digit and is set to zero: it then errs by at most
+// the same bound, and entries that vanish exactly (a polynomial mapped by
+// a linear branch has no components above its degree) are exact zeros,
+// which keeps a reducible matrix reducible (see krylov's dense solver).
+func (a *cellAssembler) roundOff(b, c, i int, hj, hi float64) float64 {
+	const eps = 0x1p-53
+	x := max(math.Abs(a.edges[0]), math.Abs(a.edges[len(a.edges)-1]))
+	rel := float64(a.terms[i]+b+c+6) + float64(b*(b+1))*2*x/hj + float64(c*(c+1))*2*x/hi
+	return rel * eps * math.Sqrt(float64(2*b+1)/hj) * math.Sqrt(float64(2*c+1)/hi)
+}
+
 // accumulate adds one quadrature node's contribution c·φ_{j,b}(x)·ψ_{i,a}(y)
 // to the row of source cell j, target cell i (and c·a(x) times it to the
 // derivative row): u and v are x and y mapped to [−1, 1] on cells of widths
@@ -404,6 +460,9 @@ func (a *cellAssembler) accumulate(i int, c, obs, u, hj, v, hi float64) {
 	n := len(a.edges) - 1
 	legendreTo(a.srcBasis, u, hj)
 	legendreTo(a.tgtBasis, v, hi)
+	a.terms[i]++
+	a.sumC[i] += math.Abs(c)
+	a.sumD[i] += math.Abs(c * obs)
 	for b := range nb {
 		cb := c * a.srcBasis[b]
 		rowOff := b*n*nb + i*nb
@@ -432,7 +491,7 @@ func (a *cellAssembler) integrateImage(l dynsys.Lap, j int, ya, yb, scale float6
 	for i := cellOf(edges, ymin); i < n && edges[i] < ymax; i++ {
 		ci0, ci1 := edges[i], edges[i+1]
 		y0, y1 := max(ymin, ci0), min(ymax, ci1)
-		if !(y1 > y0) {
+		if !(y1-y0 > a.sliver()) {
 			continue
 		}
 		hi := ci1 - ci0

@@ -32,6 +32,19 @@
 // subleading eigenvalues of analytic maps, few wide cells of high degree
 // (N = 4, p = 14) beat many narrow ones, whose jump modes crowd in.
 //
+// Those jump modes can make the smooth eigenvalues ill-conditioned in the
+// whole matrix (condition 1.5e7 for 2^(−5) of the doubling map at N = 16,
+// p = 5). Where a branch is linear and its ends are cell edges, the
+// entries that raise the polynomial degree vanish exactly; the assembly
+// keeps them exact zeros (an entry below its own round-off bound is set to
+// zero, and a piece narrower than a few ulps of the domain is left out),
+// so the matrix is block triangular by degree and the dense solver of
+// crosspec/ulam/krylov, which splits a reducible matrix into its
+// irreducible diagonal blocks, finds each eigenvalue to within a few ε of
+// its own block (the doubling map's 2^(−k), k ≤ 7, to 2e-14 for every
+// N ≤ 70 up to size 400). Larger matrices go through the Krylov iteration,
+// whose error is the condition number times its tolerance.
+//
 // # Global Chebyshev basis (Chebyshev)
 //
 // For analytic maps with full branches the transfer operator is

@@ -54,7 +54,11 @@
 // implicit filter has roots, the discarded Ritz values, next to the wanted
 // eigenvalue).
 //
-// Problems with n ≤ 2m are solved densely with gonum's mat.Eigen.
+// Problems with n ≤ 2m are solved densely with gonum's mat.Eigen; a
+// reducible matrix (its graph of nonzeros not strongly connected) is first
+// split into the irreducible diagonal blocks of its block triangular form,
+// whose eigenvalues are those of the matrix, each with only its own
+// block's conditioning (reducibleEigen).
 //
 // # The leading eigenvalue alone
 //

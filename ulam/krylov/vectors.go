@@ -188,11 +188,10 @@ func eigsDense(op Operator, c settings) (Result, error) {
 	}
 	// The vectors are computed even when not asked for, to give the
 	// residuals.
-	var eig mat.Eigen
-	if !eig.Factorize(a, mat.EigenRight) {
-		return Result{}, fmt.Errorf("krylov: dense eigen-decomposition of the %d×%d matrix failed", n, n)
+	all, vecs, err := denseEigen(a)
+	if err != nil {
+		return Result{}, err
 	}
-	all := eig.Values(nil)
 	// Groups: a real value, or a pair with the positive imaginary part
 	// first (mat.Eigen's order).
 	type group struct{ start, size int }
@@ -213,8 +212,6 @@ func eigsDense(op Operator, c settings) (Result, error) {
 		}
 		return real(vx) > real(vy)
 	})
-	var vecs mat.CDense
-	eig.VectorsTo(&vecs)
 	for _, g := range groups {
 		if len(res.Values) >= c.k {
 			break
@@ -248,4 +245,21 @@ func eigsDense(op Operator, c settings) (Result, error) {
 		res.Vectors = nil
 	}
 	return res, nil
+}
+
+// denseEigen returns all eigenvalues and right eigenvectors of a, in
+// mat.Eigen's convention, block by block when a is reducible
+// (reducibleEigen) and by mat.Eigen otherwise.
+func denseEigen(a *mat.Dense) ([]complex128, *mat.CDense, error) {
+	if values, vectors, ok := reducibleEigen(a); ok {
+		return values, vectors, nil
+	}
+	var eig mat.Eigen
+	if !eig.Factorize(a, mat.EigenRight) {
+		n, _ := a.Dims()
+		return nil, nil, fmt.Errorf("krylov: dense eigen-decomposition of the %d×%d matrix failed", n, n)
+	}
+	var vecs mat.CDense
+	eig.VectorsTo(&vecs)
+	return eig.Values(nil), &vecs, nil
 }
