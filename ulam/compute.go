@@ -253,16 +253,18 @@ func BowenRoot(logLambda func(s float64) (float64, error)) (float64, error) {
 		}
 		return g
 	}
-	g0 := f(0)
-	if failure != nil {
-		return 0, failure
-	}
+	// s = 1 first: a closed system's root is there, and s = 0 may be out
+	// of reach (a weight |f'|^(1−s) with infinitely many laps diverges).
 	g1 := f(1)
 	if failure != nil {
 		return 0, failure
 	}
 	if math.Abs(g1) <= 1e-12 {
 		return 1, nil
+	}
+	g0 := f(0)
+	if failure != nil {
+		return 0, failure
 	}
 	r, err := root.Brent(f, 0, 1, g0, g1, &root.Settings{AbsTol: 1e-13})
 	if failure != nil {

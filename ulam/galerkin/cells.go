@@ -218,6 +218,7 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 		cell    int
 		laps    []int
 		weights []float64
+		shifts  []float64 // added to a(x) in the derivative (logShifts)
 	}
 	var tails []tailPart
 	m := &CellMatrix{Edges: edges, Degree: p, ExcludedLength: ls.ExcludedLength}
@@ -233,13 +234,16 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 		for _, li := range r.laps {
 			inRun[li] = true
 		}
-		ranks, weights, check := tailRule(r.nu0, 0, len(r.laps)-1, set.TailNodes)
-		tp := tailPart{cell: cell, weights: weights}
-		for _, rk := range ranks {
+		rule, err := newTailRule(r.nu0, 0, len(r.laps)-1, set.TailNodes, tailPower(set.Observable, set.Beta))
+		if err != nil {
+			return nil, fmt.Errorf("galerkin: %s at β = %g: %w", sys.Name, set.Beta, err)
+		}
+		tp := tailPart{cell: cell, weights: rule.weights, shifts: logShifts(set.Observable, r.nu0, rule)}
+		for _, rk := range rule.ranks {
 			tp.laps = append(tp.laps, r.laps[rk])
 		}
 		tails = append(tails, tp)
-		m.TailCheck = max(m.TailCheck, check)
+		m.TailCheck = max(m.TailCheck, rule.check)
 		m.TailLaps += len(r.laps)
 		// The tail model covers the excluded end.
 		for _, e := range ls.Excluded {
@@ -305,7 +309,7 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 				if !ok {
 					continue
 				}
-				if err := a.integrateImage(l, j, ya, yb, tp.weights[k]); err != nil {
+				if err := a.integrateImage(l, j, ya, yb, tp.weights[k], tp.shifts[k]); err != nil {
 					return nil, err
 				}
 			}
@@ -478,12 +482,12 @@ func (a *cellAssembler) accumulate(i int, c, obs, u, hj, v, hi float64) {
 }
 
 // integrateImage adds scale times the integrals of the whole lap l
-// (inside source cell j, image clipped to [ya, yb]) computed in the image
-// variable: ∫ ψ_{i,a}(y) w(g(y)) φ_{j,b}(g(y)) |g'(y)| dy over each target
+// (inside source cell j, image clipped to [ya, yb]), with a(x) + shift in
+// place of a(x) in the derivative, computed in the image variable: ∫ ψ_{i,a}(y) w(g(y)) φ_{j,b}(g(y)) |g'(y)| dy over each target
 // cell, g the inverse branch, g' = 1/f'(g). It is used for the narrow laps
 // of the tail model, whose end points carry a relative error of order
 // ε·x/width when the integral is taken in x; in y nothing cancels.
-func (a *cellAssembler) integrateImage(l dynsys.Lap, j int, ya, yb, scale float64) error {
+func (a *cellAssembler) integrateImage(l dynsys.Lap, j int, ya, yb, scale, shift float64) error {
 	edges := a.edges
 	n := len(edges) - 1
 	ymin, ymax := min(ya, yb), max(ya, yb)
@@ -508,7 +512,7 @@ func (a *cellAssembler) integrateImage(l dynsys.Lap, j int, ya, yb, scale float6
 			if math.IsNaN(c) || math.IsInf(c, 0) {
 				return fmt.Errorf("galerkin: %s: weight or slope not finite at x = %g", a.sys.Name, x)
 			}
-			a.accumulate(i, c, obs, 2*(x-cj0)/hj-1, hj, 2*(y-ci0)/hi-1, hi)
+			a.accumulate(i, c, obs+shift, 2*(x-cj0)/hj-1, hj, 2*(y-ci0)/hi-1, hi)
 		}
 	}
 	return nil

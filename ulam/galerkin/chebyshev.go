@@ -146,7 +146,7 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 
 	// addLap adds scale times lap l's contributions to every row whose
 	// point lies in the lap's image.
-	addLap := func(l dynsys.Lap, scale float64) error {
+	addLap := func(l dynsys.Lap, scale, shift float64) error {
 		_, ya, _, yb, ok := clipLap(sys, l, lo, hi)
 		if !ok {
 			return nil
@@ -173,7 +173,7 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 			if m.Derivative != nil {
 				drow := m.Derivative[i*n : (i+1)*n]
 				for k, v := range ell {
-					drow[k] += c * obs * v
+					drow[k] += c * (obs + shift) * v
 				}
 			}
 		}
@@ -192,13 +192,17 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 		for _, li := range r.laps[first:] {
 			inRun[li] = true
 		}
-		ranks, weights, check := tailRule(r.nu0, first, len(r.laps)-1, set.TailNodes)
-		for k, rk := range ranks {
-			if err := addLap(ls.Laps[r.laps[rk]], weights[k]); err != nil {
+		rule, err := newTailRule(r.nu0, first, len(r.laps)-1, set.TailNodes, tailPower(set.Observable, set.Beta))
+		if err != nil {
+			return nil, fmt.Errorf("galerkin: %s at β = %g: %w", sys.Name, set.Beta, err)
+		}
+		shifts := logShifts(set.Observable, r.nu0, rule)
+		for k, rk := range rule.ranks {
+			if err := addLap(ls.Laps[r.laps[rk]], rule.weights[k], shifts[k]); err != nil {
 				return nil, err
 			}
 		}
-		m.TailCheck = max(m.TailCheck, check)
+		m.TailCheck = max(m.TailCheck, rule.check)
 		m.TailLaps += len(r.laps) - first
 		for _, e := range ls.Excluded {
 			if (atLo && e.Lo <= lo) || (!atLo && e.Hi >= hi) {
@@ -211,7 +215,7 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 		if inRun[li] {
 			continue
 		}
-		if err := addLap(l, 1); err != nil {
+		if err := addLap(l, 1, 0); err != nil {
 			return nil, err
 		}
 	}

@@ -208,12 +208,6 @@ type Result struct {
 // ErrLeading is returned when the eigenvalue of largest modulus is not
 // real and positive, as the leading eigenvalue of a positive operator must
 // be: a sign that the basis is too coarse for the map.
-// ErrLogTail is returned for the Lyapunov exponent (or the dimension)
-// of a map whose laps accumulate: ln |f'| diverges at the accumulation
-// point, and the tail model, which assumes contributions analytic in 1/n,
-// does not hold for it.
-var ErrLogTail = errors.New("galerkin: ln |f'| diverges where the laps accumulate; the tail model does not treat it")
-
 var ErrLeading = errors.New("galerkin: the eigenvalue of largest modulus is not real and positive")
 
 // Compute estimates quantity q of the 1D map sys with the basis of
@@ -269,9 +263,6 @@ func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *u
 	}
 	res.setMatrix(m)
 	res.Assemblies = 1
-	if set.Observable == ulam.LogExpansion && tailLaps(m) > 0 {
-		return res, ErrLogTail
-	}
 	if err := res.eigen(m, sv); err != nil {
 		return res, err
 	}
@@ -448,9 +439,6 @@ func computeDimension(sys *dynsys.System, set Settings, sv ulam.SolveSettings, r
 		res.addStats(r.Stats, r.Status)
 		r.setMatrix(m)
 		last = r
-		if tailLaps(m) > 0 && s != 1 {
-			return 0, ErrLogTail
-		}
 		l0 := r.Eigenvalues[0]
 		if imag(l0) != 0 || !(real(l0) > 0) {
 			return 0, fmt.Errorf("%w: %s at s = %g: %v", ErrLeading, sys.Name, s, l0)

@@ -69,23 +69,28 @@
 // branches 1/(n + y); the index must grow by one a lap, checked at three
 // ranks, else no tail model is used and the excluded mass is reported in
 // ExcludedLength). The contribution a(n) of lap n to a matrix row is
-// assumed to be n⁻² G(1/n) with G analytic on [0, 1/ν_0] (true for a
-// simple pole of f, e.g. G(t) = ∫ ψ(y) φ(t/(1+yt)) (1+yt)⁻² dy for the Gauss
-// map, whose singularities lie at t ≤ −1). G is interpolated at the ranks
-// nearest to Chebyshev points of t on [0, 1/ν_0], and the interpolant is
-// summed over every n ≥ ν_0 (directly to 10⁵ ranks, then by the midpoint
-// Euler–Maclaurin formula, error O(10⁻²⁵)), which gives weights s_m with
+// assumed to be n^(−P) G(1/n) with G analytic on [0, 1/ν_0]: P = 2 for a
+// bounded weight (true for a simple pole of f, e.g.
+// G(t) = ∫ ψ(y) φ(t/(1+yt)) (1+yt)⁻² dy for the Gauss map, whose
+// singularities lie at t ≤ −1), P = 2 − 2β for the weight |f'|^β, which
+// grows like n^(2β) (the sum diverges for β ≥ 1/2: ErrTailDiverges). G is
+// interpolated at the ranks nearest to Chebyshev points of t on
+// [0, 1/ν_0], and the interpolant is summed over every n ≥ ν_0 (directly
+// to 10⁵ ranks, then by the midpoint Euler–Maclaurin formula with the
+// integral in closed form), which gives weights s_m with
 // Σ_n a(n) ≈ Σ_m s_m a(n_m): the whole infinite tail from about 20 laps
-// (TailNodes). Each rule is checked on the telescoping sum
-// Σ_{n ≥ ν} 1/((n+y)(n+y+1)) = 1/(ν+y) and its node count lowered until the
-// relative error is below 1e-13 (TailCheck reports it); the sample laps are
+// (TailNodes). The same sums with ln n inside give weights s'_m for
+// Σ_n ln(n) a(n), which the derivative in β of |f'|^β needs:
+// ln |f'| = 2 ln n + (analytic in 1/n) on lap n, so the Lyapunov exponent
+// of the Gauss map comes out to about 1e-14. Each rule is checked on
+// telescoping sums, Σ_{n ≥ ν} [(n+y)^(1−P) − (n+y+1)^(1−P)] = (ν+y)^(1−P)
+// and its logarithmic twin, and its node count lowered until the relative
+// error is below 1e-13 (TailCheck reports it); the sample laps are
 // integrated in the image variable, where narrow laps lose no digits.
 // With the Cells basis every lap inside the end cell goes to the model;
 // with the Chebyshev basis the first TailStart (64) laps are summed
-// exactly. The model needs contributions analytic in 1/n: an observable
-// unbounded at the accumulation point is outside it, and the Lyapunov
-// exponent and dimension (ln |f'| = −2 ln x for the Gauss map) are refused
-// with ErrLogTail.
+// exactly. The model needs a system observable analytic in 1/n at the
+// accumulation point; one with a singularity there is outside it.
 //
 // # Quantities
 //

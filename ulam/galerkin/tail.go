@@ -1,11 +1,14 @@
 package galerkin
 
 import (
+	"errors"
+	"fmt"
 	"math"
 
-	"gonum.org/v1/gonum/integrate/quad"
+	"gonum.org/v1/gonum/mat"
 
 	"crosspec/dynsys"
+	"crosspec/ulam"
 )
 
 // run is a sequence of laps accumulating at an end of the domain (the
@@ -98,51 +101,94 @@ func findRun(ls dynsys.LapSet, lo, hi, limit float64, atLo bool) *run {
 	return r
 }
 
-// tailRule returns the ranks r_m and weights s_m of a rule
+// tailRule is a quadrature rule over the laps of a run, ranks ≥ first:
 //
-//	Σ_{r ≥ first} a(ν0 + r) ≈ Σ_m s_m a(ν0 + r_m)
+//	Σ_{r ≥ first} a(ν0 + r)   ≈ Σ_m weights[m]·a(ν0 + ranks[m]),
+//	Σ_{r ≥ first} ln(n)·a(n)  ≈ Σ_m logWeights[m]·a(ν0 + ranks[m]),
 //
-// for contributions a(n) = n^(−2) G(1/n) with G smooth on [0, 1/(ν0+first)]:
-// G is interpolated at the ranks nearest to the Chebyshev points of t = 1/n
-// on [1/(ν0+last), 1/(ν0+first)] (last the highest rank the lap scan
-// resolved), and the interpolant is summed over all n = ν0 + r, r ≥ first:
-// s_m = n_m² Σ_r n_r^(−2) ℓ_m(1/n_r), with ℓ_m the Lagrange polynomials.
-// The sum runs directly over 10⁵ ranks and by the midpoint Euler–Maclaurin
-// formula beyond, Σ_{n ≥ c+½} n^(−2) ℓ(1/n) = ∫_0^{1/c} ℓ(t) dt + F'(c)/24 + …,
-// F(n) = n^(−2) ℓ(1/n), whose neglected terms are O(c^(−5)).
-func tailRule(nu0 float64, first, last, nodes int) (ranks []int, weights []float64, check float64) {
-	// The rule is checked on a(n) = 1/((n+y)(n+y+1)), whose tail sums are
-	// 1/(ν+y) (a telescoping sum) and which has the analytic structure of
-	// the contributions (G(t) = 1/((1+yt)(1+(y+1)t)), poles at t ≤ −1/2).
-	// A rule whose snapped nodes spoil it (too many nodes crowding the
-	// integers near 1/ν) is replaced by one with fewer nodes; the best
-	// one is kept, with its relative error on the check as check.
+// n = ν0 + r, for contributions a(n) = n^(−P) G(1/n) with G smooth on
+// [0, 1/(ν0+first)]. P = 2 for a bounded weight (a lap of a simple pole has
+// width ~ n^(−2)); the weight |f'|^β grows like n^(2β) there, so P = 2 − 2β.
+// The logarithmic rule serves the derivative in β of that weight,
+// ln |f'| = 2 ln n + (smooth in 1/n) on lap n.
+type tailRule struct {
+	ranks      []int
+	weights    []float64
+	logWeights []float64
+	// check is the relative error of the rule on sums known in closed form.
+	check float64
+}
+
+// ErrTailDiverges is returned when the weight grows so fast toward an
+// accumulation point of laps that the sum over the laps diverges
+// (P ≤ 1, i.e. |f'|^β with β ≥ 1/2 for a simple pole): the transfer
+// operator is then unbounded.
+var ErrTailDiverges = errors.New("galerkin: the weight grows too fast where the laps accumulate: the sum over the laps diverges")
+
+// newTailRule builds the rule: G is interpolated at the ranks nearest to
+// the Chebyshev points of t = 1/n on [0, 1/(ν0+first)] (last the highest
+// rank the lap scan resolved), and the interpolant is summed over all
+// n = ν0 + r, r ≥ first: s_m = n_m^P Σ_r n_r^(−P) ℓ_m(1/n_r), and s'_m
+// the same with ln n_r inside, ℓ_m the Lagrange polynomials. The sums run
+// directly over 10⁵ ranks and beyond by the midpoint Euler–Maclaurin
+// formula, Σ_{n ≥ c+½} F(n) = ∫_c^∞ F(n) dn + F'(c)/24 + O(F”'(c)), with
+// F(n) = n^(−P) (ln n)^L ℓ(1/n) (L = 0, 1) and the integral
+// ∫_0^{1/c} t^(P−2) (−ln t)^L ℓ(t) dt taken exactly for a polynomial fit
+// of ℓ on [0, 1/c] (moments of t^(P−2) (−ln t)^L in closed form).
+//
+// The rule is checked on the telescoping sums
+//
+//	Σ_{n ≥ ν} [(n+y)^(1−P) − (n+y+1)^(1−P)] = (ν+y)^(1−P),
+//	Σ_{n ≥ ν} [ln(n+y)(n+y)^(1−P) − ln(n+y+1)(n+y+1)^(1−P)] = ln(ν+y)(ν+y)^(1−P),
+//
+// y = 0, 1, whose terms have the analytic structure of the contributions
+// (n^(−P) H(1/n), and ln n·n^(−P) H(1/n) + n^(−P) K(1/n), singular only
+// at t ≤ −1/2). A rule whose snapped nodes spoil it (nodes crowding the
+// integers near 1/ν) is replaced by one with fewer nodes; the best one is
+// kept.
+func newTailRule(nu0 float64, first, last, nodes int, power float64) (tailRule, error) {
+	if !(power > 1) {
+		return tailRule{}, fmt.Errorf("%w (lap contributions fall like n^(−%.3g))", ErrTailDiverges, power)
+	}
 	nuFirst := nu0 + float64(first)
-	check = math.Inf(1)
+	best := tailRule{check: math.Inf(1)}
 	for m := nodes; m >= 4; m-- {
-		rk, w := tailRuleNodes(nu0, first, last, m)
+		r := tailRuleNodes(nu0, first, last, m, power)
 		worst := 0.0
 		for _, y := range []float64{0, 1} {
-			var s float64
-			for k, r := range rk {
-				n := nu0 + float64(r) + y
-				s += w[k] / (n * (n + 1))
+			var s, sl float64
+			for k, rk := range r.ranks {
+				n := nu0 + float64(rk)
+				u := n + y
+				// u^(1−P) − (u+1)^(1−P) without cancellation, and the
+				// logarithmic term less ln n times it.
+				a1 := -math.Pow(u, 1-power) * math.Expm1((1-power)*math.Log1p(1/u))
+				a2 := math.Log1p(y/n)*math.Pow(u, 1-power) - math.Log1p((y+1)/n)*math.Pow(u+1, 1-power)
+				s += r.weights[k] * a1
+				sl += r.logWeights[k]*a1 + r.weights[k]*a2
 			}
-			worst = max(worst, math.Abs(s*(nuFirst+y)-1))
+			u := nuFirst + y
+			want := math.Pow(u, 1-power)
+			worst = max(worst, math.Abs(s/want-1))
+			if lw := math.Log(u) * want; lw != 0 {
+				worst = max(worst, math.Abs(sl/lw-1))
+			}
 		}
-		if worst < check {
-			ranks, weights, check = rk, w, worst
+		if worst < best.check {
+			best = r
+			best.check = worst
 		}
 		if worst <= 1e-13 {
 			break
 		}
 	}
-	return ranks, weights, check
+	return best, nil
 }
 
-func tailRuleNodes(nu0 float64, first, last, nodes int) (ranks []int, weights []float64) {
+func tailRuleNodes(nu0 float64, first, last, nodes int, power float64) tailRule {
 	tHi := 1 / (nu0 + float64(first))
 	seen := map[int]bool{}
+	var ranks []int
 	for m := range nodes {
 		t := 0.5 * tHi * (1 + math.Cos(math.Pi*(float64(m)+0.5)/float64(nodes)))
 		r := first + last
@@ -190,34 +236,95 @@ func tailRuleNodes(nu0 float64, first, last, nodes int) (ranks []int, weights []
 		}
 	}
 	sums := make([]float64, M)
+	logSums := make([]float64, M)
 	ell := make([]float64, M)
 	const direct = 100000
 	for r := first; r < first+direct; r++ {
 		n := nu0 + float64(r)
 		lagrange(ell, 1/n)
+		f := math.Pow(n, -power)
+		fl := f * math.Log(n)
 		for m := range M {
-			sums[m] += ell[m] / (n * n)
+			sums[m] += ell[m] * f
+			logSums[m] += ell[m] * fl
 		}
 	}
 	c := nu0 + float64(first+direct) - 0.5
-	qx, qw := make([]float64, M), make([]float64, M)
-	quad.Legendre{}.FixedLocations(qx, qw, 0, 1/c)
-	for q := range qx {
-		lagrange(ell, qx[q])
-		for m := range M {
-			sums[m] += qw[q] * ell[m]
+	// ∫_0^T t^α (−ln t)^L ℓ_m(t) dt, T = 1/c, α = P − 2 > −1: each ℓ_m is
+	// fitted on [0, T] by a polynomial Σ_k e_k (t/T)^k through Chebyshev
+	// points (ℓ_m is analytic on a disc of radius ~ 1/ν0 ≫ T, so the fit
+	// errs by about (ν0·T)^(fitDegree+1)), whose moments are T^(α+1)/d and
+	// T^(α+1)(−ln T/d + 1/d²), d = α+k+1.
+	const fitDegree = 8
+	T, alpha := 1/c, power-2
+	vals := mat.NewDense(fitDegree+1, M, nil)
+	vander := mat.NewDense(fitDegree+1, fitDegree+1, nil)
+	for q := 0; q <= fitDegree; q++ {
+		u := 0.5 * (1 + math.Cos(math.Pi*(float64(q)+0.5)/float64(fitDegree+1)))
+		lagrange(ell, T*u)
+		vals.SetRow(q, ell)
+		for k := 0; k <= fitDegree; k++ {
+			vander.Set(q, k, math.Pow(u, float64(k)))
 		}
 	}
-	// F'(c)/24 with F(n) ≈ ℓ(1/n)/n²: −2ℓ(1/c)/(24c³), the ℓ' term being
-	// smaller by 1/c.
+	var coef mat.Dense
+	if err := coef.Solve(vander, vals); err != nil {
+		panic("galerkin: singular fit of the tail interpolant: " + err.Error())
+	}
+	scale := math.Pow(T, alpha+1)
+	for k := 0; k <= fitDegree; k++ {
+		d := alpha + float64(k) + 1
+		mom, logMom := scale/d, scale*(-math.Log(T)/d+1/(d*d))
+		for m := range M {
+			sums[m] += coef.At(k, m) * mom
+			logSums[m] += coef.At(k, m) * logMom
+		}
+	}
+	// F'(c)/24 with F(n) ≈ n^(−P) (ln n)^L ℓ(1/n); the ℓ' term is smaller
+	// by 1/c.
 	lagrange(ell, 1/c)
+	cp := math.Pow(c, -power-1) / 24
 	for m := range M {
-		sums[m] -= ell[m] / (12 * c * c * c)
+		sums[m] -= power * cp * ell[m]
+		logSums[m] += (1 - power*math.Log(c)) * cp * ell[m]
 	}
-	weights = make([]float64, M)
+	r := tailRule{ranks: ranks, weights: make([]float64, M), logWeights: make([]float64, M)}
 	for m := range M {
-		n := 1 / ts[m]
-		weights[m] = sums[m] * n * n
+		np := math.Pow(1/ts[m], power)
+		r.weights[m] = sums[m] * np
+		r.logWeights[m] = logSums[m] * np
 	}
-	return ranks, weights
+	return r
+}
+
+// tailPower returns the exponent P of the lap contributions n^(−P) G(1/n)
+// for the weight exp(β a): 2 − 2β for a = ln |f'| (|f'| grows like n² on
+// the laps of a simple pole), 2 for an observable bounded there.
+func tailPower(obs ulam.Observable, beta float64) float64 {
+	if obs == ulam.LogExpansion {
+		return 2 - 2*beta
+	}
+	return 2
+}
+
+// logShifts returns, per node of the rule, what to add to a(x) in the
+// derivative integrals of the sample laps so that the weighted sum treats
+// the logarithm of a = ln |f'| = 2 ln n + g(x) (g smooth in 1/n on lap n):
+// Σ_n d(n) = Σ_n [d(n) − 2 ln n·c(n)] + 2 Σ_n ln n·c(n)
+//
+//	≈ Σ_m s_m d(n_m) + Σ_m (2 s'_m − 2 ln n_m·s_m) c(n_m),
+//
+// d and c a lap's derivative and plain integrals, s, s' the rule's weights;
+// the shift is 2(s'_m/s_m − ln n_m). Zero for other observables.
+func logShifts(obs ulam.Observable, nu0 float64, rule tailRule) []float64 {
+	shifts := make([]float64, len(rule.ranks))
+	if obs != ulam.LogExpansion {
+		return shifts
+	}
+	for m, r := range rule.ranks {
+		if rule.weights[m] != 0 {
+			shifts[m] = 2 * (rule.logWeights[m]/rule.weights[m] - math.Log(nu0+float64(r)))
+		}
+	}
+	return shifts
 }
