@@ -10,19 +10,23 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
-// irreducibleBlocks orders the indices of the n×n row-major matrix a so
-// that, permuted symmetrically, a is block upper triangular with
-// irreducible diagonal blocks (its Frobenius normal form): the blocks are
-// the strongly connected components of the graph with an edge i → j for
-// every a_ij ≠ 0, listed so that every edge between two blocks runs from an
-// earlier to a later one. It returns the order and the block boundaries
-// (block b holds order[start[b]:start[b+1]]).
+// IrreducibleBlocks orders the n indices of a matrix whose nonzeros
+// (i, j) are listed row by row by a cursor: next(i, 0) returns the first
+// column j of row i and the cursor of the next one, next(i, cursor) the
+// following, ok = false after the last, so that the matrix permuted
+// symmetrically is block upper triangular with irreducible diagonal blocks
+// (its Frobenius normal form): the blocks are the strongly connected
+// components of the graph with an edge i → j for every nonzero, listed so
+// that every edge between two blocks runs from an earlier to a later one.
+// It returns the order and the block boundaries (block b holds
+// order[start[b]:start[b+1]], each sorted). The eigenvalues of the matrix
+// are those of its diagonal blocks.
 //
 // The components come from Tarjan's algorithm (R. Tarjan, SIAM J. Comput.
 // 1 (1972) 146–160), run without recursion; Tarjan emits a component only
 // after every component it reaches, so the reversed emission order is the
 // one wanted.
-func irreducibleBlocks(a []float64, n int) (order, start []int) {
+func IrreducibleBlocks(n int, next func(i, cursor int) (j, nextCursor int, ok bool)) (order, start []int) {
 	const unvisited = -1
 	index := make([]int, n)
 	low := make([]int, n)
@@ -48,10 +52,13 @@ func irreducibleBlocks(a []float64, n int) (order, start []int) {
 			f := &calls[len(calls)-1]
 			v := f.v
 			descended := false
-			for f.next < n {
-				w := f.next
-				f.next++
-				if w == v || a[v*n+w] == 0 {
+			for {
+				w, cursor, ok := next(v, f.next)
+				if !ok {
+					break
+				}
+				f.next = cursor
+				if w == v {
 					continue
 				}
 				if index[w] == unvisited {
@@ -100,9 +107,21 @@ func irreducibleBlocks(a []float64, n int) (order, start []int) {
 	return order, start
 }
 
+// denseBlocks is IrreducibleBlocks for the n×n row-major matrix a.
+func denseBlocks(a []float64, n int) (order, start []int) {
+	return IrreducibleBlocks(n, func(i, cursor int) (int, int, bool) {
+		for j := cursor; j < n; j++ {
+			if a[i*n+j] != 0 {
+				return j, j + 1, true
+			}
+		}
+		return 0, n, false
+	})
+}
+
 // reducibleEigen computes all eigenvalues and right eigenvectors of the
 // n×n matrix a when it is reducible, block by block: with the order of
-// irreducibleBlocks, P A Pᵀ is block upper triangular, so its eigenvalues
+// IrreducibleBlocks, P A Pᵀ is block upper triangular, so its eigenvalues
 // are those of the diagonal blocks A_bb. Each block is balanced (Dgebal,
 // diagonal scaling D_b) and brought to real Schur form
 // D_b⁻¹ A_bb D_b = Q_b T_b Q_bᵀ; with S = diag(D_b Q_b) the whole matrix
@@ -131,7 +150,7 @@ func reducibleEigen(a *mat.Dense) (values []complex128, vectors *mat.CDense, ok 
 	if raw.Stride != n {
 		dense = mat.DenseCopyOf(a).RawMatrix().Data
 	}
-	order, start := irreducibleBlocks(dense, n)
+	order, start := denseBlocks(dense, n)
 	if len(start) <= 2 {
 		return nil, nil, false
 	}

@@ -51,7 +51,7 @@ func TestIrreducibleBlocks(t *testing.T) {
 	a, _ := layeredDoubling(8, 3, 1)
 	n, _ := a.Dims()
 	data := a.RawMatrix().Data
-	order, start := irreducibleBlocks(data, n)
+	order, start := denseBlocks(data, n)
 	if len(order) != n {
 		t.Fatalf("order has %d indices, want %d", len(order), n)
 	}
