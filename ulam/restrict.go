@@ -1,6 +1,11 @@
 package ulam
 
-import "fmt"
+import (
+	"fmt"
+	"slices"
+
+	"crosspec/ulam/krylov"
+)
 
 // Restriction says which cells of the grid a matrix keeps.
 type Restriction int
@@ -74,32 +79,56 @@ func (m *Matrix) Restrict(r Restriction, closed bool) *Matrix {
 		}
 	case RestrictCycles, RestrictRecurrent:
 		comp, count := components(m.RowPtr, m.Col)
+		// Components are numbered so that every edge between two runs
+		// from a higher number to a lower one.
 		nontrivial := make([]bool, count)
-		final := make([]bool, count)
 		size := make([]int, count)
-		for i := range final {
-			final[i] = true
-		}
-		// A cell with an empty row is a dead end: mass sent there is lost,
-		// as if it escaped (a closed system's cell wholly inside a part of
-		// the domain the lap scan left out, such as the first cells of the
-		// Gauss map on a fine grid). An edge into a dead end does not stop
-		// a class from being final.
-		deadEnd := func(j int) bool { return m.RowPtr[j+1] == m.RowPtr[j] }
 		for i := range n {
 			size[comp[i]]++
 			for _, j := range m.Col[m.RowPtr[i]:m.RowPtr[i+1]] {
 				if j == i {
 					nontrivial[comp[i]] = true
 				}
-				if comp[j] != comp[i] && !deadEnd(j) {
-					final[comp[i]] = false
-				}
 			}
 		}
 		for c := range count {
 			if size[c] > 1 {
 				nontrivial[c] = true
+			}
+		}
+		// A component that reaches no nontrivial one is a dead end: mass
+		// sent there is lost after a few steps, as if it escaped (a closed
+		// system's cells wholly inside a part of the domain the lap scan
+		// left out, such as the first cells of the Gauss map on a fine
+		// grid, and the cells that map only into those, such as its last
+		// cell). An edge into a dead end does not stop a class from being
+		// final. By the numbering, the components an edge reaches come
+		// first, so one pass in increasing order settles reach.
+		byComp := make([]int, 0, n)
+		first := make([]int, count+1)
+		for i := range n {
+			first[comp[i]+1]++
+		}
+		for c := range count {
+			first[c+1] += first[c]
+		}
+		byComp = byComp[:n]
+		fill := slices.Clone(first[:count])
+		for i := range n {
+			byComp[fill[comp[i]]] = i
+			fill[comp[i]]++
+		}
+		reach := slices.Clone(nontrivial)
+		final := make([]bool, count)
+		for c := range count {
+			final[c] = true
+			for _, i := range byComp[first[c]:first[c+1]] {
+				for _, j := range m.Col[m.RowPtr[i]:m.RowPtr[i+1]] {
+					if cj := comp[j]; cj != c && reach[cj] {
+						reach[c] = true
+						final[c] = false
+					}
+				}
 			}
 		}
 		for i := range n {
@@ -118,68 +147,18 @@ func (m *Matrix) Restrict(r Restriction, closed bool) *Matrix {
 }
 
 // components labels the strongly connected components of the graph with
-// edges i → Col[k], k in [RowPtr[i], RowPtr[i+1]), by Tarjan's algorithm
-// (R. Tarjan, SIAM J. Comput. 1 (1972) 146–160) without recursion, so that
-// 10⁶-cell graphs do not exhaust the goroutine stack.
+// edges i → Col[k], k in [RowPtr[i], RowPtr[i+1]) (krylov.IrreducibleBlocks,
+// Tarjan's algorithm without recursion, so that 10⁶-cell graphs do not
+// exhaust the goroutine stack), numbered so that every edge between two
+// components runs from a higher number to a lower one.
 func components(rowPtr, col []int) (comp []int, count int) {
 	n := len(rowPtr) - 1
-	const unvisited = -1
-	index := make([]int, n)
-	low := make([]int, n)
+	order, start := krylov.IrreducibleBlocks(rowPtr, col)
+	count = len(start) - 1
 	comp = make([]int, n)
-	onStack := make([]bool, n)
-	for i := range index {
-		index[i] = unvisited
-		comp[i] = -1
-	}
-	var stack []int // Tarjan's stack of vertices
-	type frame struct{ v, edge int }
-	var calls []frame
-	next := 0
-	for root := range n {
-		if index[root] != unvisited {
-			continue
-		}
-		calls = append(calls, frame{root, rowPtr[root]})
-		index[root], low[root] = next, next
-		next++
-		stack = append(stack, root)
-		onStack[root] = true
-		for len(calls) > 0 {
-			f := &calls[len(calls)-1]
-			v := f.v
-			if f.edge < rowPtr[v+1] {
-				w := col[f.edge]
-				f.edge++
-				if index[w] == unvisited {
-					index[w], low[w] = next, next
-					next++
-					stack = append(stack, w)
-					onStack[w] = true
-					calls = append(calls, frame{w, rowPtr[w]})
-				} else if onStack[w] {
-					low[v] = min(low[v], index[w])
-				}
-				continue
-			}
-			// v is finished.
-			if low[v] == index[v] {
-				for {
-					w := stack[len(stack)-1]
-					stack = stack[:len(stack)-1]
-					onStack[w] = false
-					comp[w] = count
-					if w == v {
-						break
-					}
-				}
-				count++
-			}
-			calls = calls[:len(calls)-1]
-			if len(calls) > 0 {
-				u := calls[len(calls)-1].v
-				low[u] = min(low[u], low[v])
-			}
+	for b := range count {
+		for _, i := range order[start[b]:start[b+1]] {
+			comp[i] = count - 1 - b
 		}
 	}
 	return comp, count

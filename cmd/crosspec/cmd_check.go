@@ -97,6 +97,9 @@ reproduce the run.`,
 			if opts.runs, err = parseRuns(defaultCells(s, *cells), "", s.Dim()); err != nil {
 				return e.fail(err)
 			}
+			if *cells == "" {
+				opts.nnzBudget = defaultNNZBudget
+			}
 			if opts.expand.maxLen == 0 {
 				opts.expand.maxLen = 12
 				if s.Dim() > 1 {
@@ -161,6 +164,7 @@ type checkOptions struct {
 	galerkinSizes []int
 	quantity      dynsys.Quantity
 	runs          []ulamRun
+	nnzBudget     int // default grids stop before a matrix this large; 0: no limit
 	points        int
 	beta          float64
 	eigs          int
@@ -189,6 +193,12 @@ func defaultQuantity(s *dynsys.System, name string) (dynsys.Quantity, error) {
 	return dynsys.Eigenvalues, nil
 }
 
+// defaultNNZBudget bounds the matrices of the default grids: 2e7 nonzeros,
+// about 0.5 GB at the assembly's peak of 24 bytes a nonzero. Maps with
+// infinitely many laps (the Gauss map) have rows that fill up near the
+// accumulation point, and their nonzeros grow like N^1.5.
+const defaultNNZBudget = 20_000_000
+
 func defaultCells(s *dynsys.System, cells string) string {
 	if cells != "" {
 		return cells
@@ -209,6 +219,7 @@ type checkResult struct {
 	system     *dynsys.System
 	opts       checkOptions
 	ulamRuns   []ulamRunJSON
+	ulamStop   string // why the default grids stopped early
 	ulamLast   ulam.Result
 	ulamEst    compare.Estimate
 	expansion  cycles.QuantityResult
@@ -278,6 +289,15 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 		if err := ctx.Err(); err != nil {
 			return nil, &numericalError{fmt.Errorf("interrupted during the Ulam runs")}
 		}
+		if k := len(r.ulamRuns); opts.nnzBudget > 0 && k >= 2 {
+			// The nonzeros grow by about the same factor from grid to grid.
+			a, b := r.ulamRuns[k-2].NNZ, r.ulamRuns[k-1].NNZ
+			if next := float64(b) * float64(b) / float64(max(a, 1)); next > float64(opts.nnzBudget) {
+				r.ulamStop = fmt.Sprintf("the default grids stop at %s: the next would need about %.2g nonzeros, more than %.2g (--cells goes on)",
+					runs[i-1].label(s), next, float64(opts.nnzBudget))
+				break
+			}
+		}
 		if opts.progress {
 			fmt.Fprintf(e.stderr, "\rUlam: %s (%d of %d)\033[K", run.label(s), i+1, len(opts.runs))
 		}
@@ -339,6 +359,9 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 		Status: compare.TooFewPoints, Reason: "the Ulam path was not run (--methods)"}
 	if len(cells) > 0 {
 		r.ulamEst = compare.Ulam(cells, ulamValues, nil)
+		if r.ulamStop != "" {
+			r.ulamEst.Reason += "; " + r.ulamStop
+		}
 		r.comparison = compare.ComparePaths(compare.Path{Name: "ulam", Estimate: r.ulamEst, Erratic: true}, cyclesPath)
 		if stalled != "" {
 			r.comparison.Unconfirmed(stalled)

@@ -313,15 +313,7 @@ func tailLaps(m Operator) int {
 func (res *Result) eigen(m Operator, sv ulam.SolveSettings) error {
 	k := min(sv.Eigenvalues, m.Dim())
 	if cm, ok := m.(*CellMatrix); ok && m.Dim() > denseLimit {
-		order, start := krylov.IrreducibleBlocks(cm.Dim(), func(i, cursor int) (int, int, bool) {
-			if cursor == 0 {
-				cursor = cm.RowPtr[i]
-			}
-			if cursor >= cm.RowPtr[i+1] {
-				return 0, cursor, false
-			}
-			return cm.Col[cursor], cursor + 1, true
-		})
+		order, start := krylov.IrreducibleBlocks(cm.RowPtr, cm.Col)
 		if len(start) > 2 {
 			return res.eigenBlocks(cm, order, start, k, sv)
 		}

@@ -10,10 +10,9 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
-// IrreducibleBlocks orders the n indices of a matrix whose nonzeros
-// (i, j) are listed row by row by a cursor: next(i, 0) returns the first
-// column j of row i and the cursor of the next one, next(i, cursor) the
-// following, ok = false after the last, so that the matrix permuted
+// IrreducibleBlocks orders the n indices of a matrix with the sparsity
+// pattern rowPtr, col (compressed sparse rows: the nonzeros of row i are in
+// the columns col[rowPtr[i]:rowPtr[i+1]]) so that the matrix permuted
 // symmetrically is block upper triangular with irreducible diagonal blocks
 // (its Frobenius normal form): the blocks are the strongly connected
 // components of the graph with an edge i → j for every nonzero, listed so
@@ -23,10 +22,11 @@ import (
 // are those of its diagonal blocks.
 //
 // The components come from Tarjan's algorithm (R. Tarjan, SIAM J. Comput.
-// 1 (1972) 146–160), run without recursion; Tarjan emits a component only
-// after every component it reaches, so the reversed emission order is the
-// one wanted.
-func IrreducibleBlocks(n int, next func(i, cursor int) (j, nextCursor int, ok bool)) (order, start []int) {
+// 1 (1972) 146–160), run without recursion (10⁶-vertex graphs would
+// exhaust the goroutine stack); Tarjan emits a component only after every
+// component it reaches, so the reversed emission order is the one wanted.
+func IrreducibleBlocks(rowPtr, col []int) (order, start []int) {
+	n := len(rowPtr) - 1
 	const unvisited = -1
 	index := make([]int, n)
 	low := make([]int, n)
@@ -35,15 +35,17 @@ func IrreducibleBlocks(n int, next func(i, cursor int) (j, nextCursor int, ok bo
 		index[i] = unvisited
 	}
 	var stack []int
-	type frame struct{ v, next int }
+	type frame struct{ v, edge int }
 	var calls []frame
 	counter := 0
-	var emitted [][]int
+	// Components in emission order: members[bounds[c]:bounds[c+1]].
+	members := make([]int, 0, n)
+	bounds := []int{0}
 	for root := range n {
 		if index[root] != unvisited {
 			continue
 		}
-		calls = append(calls, frame{root, 0})
+		calls = append(calls, frame{root, rowPtr[root]})
 		index[root], low[root] = counter, counter
 		counter++
 		stack = append(stack, root)
@@ -52,12 +54,9 @@ func IrreducibleBlocks(n int, next func(i, cursor int) (j, nextCursor int, ok bo
 			f := &calls[len(calls)-1]
 			v := f.v
 			descended := false
-			for {
-				w, cursor, ok := next(v, f.next)
-				if !ok {
-					break
-				}
-				f.next = cursor
+			for f.edge < rowPtr[v+1] {
+				w := col[f.edge]
+				f.edge++
 				if w == v {
 					continue
 				}
@@ -66,7 +65,7 @@ func IrreducibleBlocks(n int, next func(i, cursor int) (j, nextCursor int, ok bo
 					counter++
 					stack = append(stack, w)
 					onStack[w] = true
-					calls = append(calls, frame{w, 0})
+					calls = append(calls, frame{w, rowPtr[w]})
 					descended = true
 					break
 				}
@@ -78,18 +77,17 @@ func IrreducibleBlocks(n int, next func(i, cursor int) (j, nextCursor int, ok bo
 				continue
 			}
 			if low[v] == index[v] {
-				var comp []int
 				for {
 					w := stack[len(stack)-1]
 					stack = stack[:len(stack)-1]
 					onStack[w] = false
-					comp = append(comp, w)
+					members = append(members, w)
 					if w == v {
 						break
 					}
 				}
-				slices.Sort(comp)
-				emitted = append(emitted, comp)
+				slices.Sort(members[bounds[len(bounds)-1]:])
+				bounds = append(bounds, len(members))
 			}
 			calls = calls[:len(calls)-1]
 			if len(calls) > 0 {
@@ -98,10 +96,10 @@ func IrreducibleBlocks(n int, next func(i, cursor int) (j, nextCursor int, ok bo
 			}
 		}
 	}
-	slices.Reverse(emitted)
-	start = append(start, 0)
-	for _, c := range emitted {
-		order = append(order, c...)
+	order = make([]int, 0, n)
+	start = make([]int, 1, len(bounds))
+	for c := len(bounds) - 2; c >= 0; c-- {
+		order = append(order, members[bounds[c]:bounds[c+1]]...)
 		start = append(start, len(order))
 	}
 	return order, start
@@ -109,14 +107,17 @@ func IrreducibleBlocks(n int, next func(i, cursor int) (j, nextCursor int, ok bo
 
 // denseBlocks is IrreducibleBlocks for the n×n row-major matrix a.
 func denseBlocks(a []float64, n int) (order, start []int) {
-	return IrreducibleBlocks(n, func(i, cursor int) (int, int, bool) {
-		for j := cursor; j < n; j++ {
+	rowPtr := make([]int, n+1)
+	var col []int
+	for i := range n {
+		for j := range n {
 			if a[i*n+j] != 0 {
-				return j, j + 1, true
+				col = append(col, j)
 			}
 		}
-		return 0, n, false
-	})
+		rowPtr[i+1] = len(col)
+	}
+	return IrreducibleBlocks(rowPtr, col)
 }
 
 // reducibleEigen computes all eigenvalues and right eigenvectors of the
