@@ -35,6 +35,14 @@ estimate drawn from its observed convergence, and says whether the two agree:
 "inconclusive" in between. It also recommends the shortest cycle length whose
 estimated error is below --tol, and the partition size Ulam would need.
 
+--methods chooses the paths: ulam, galerkin (a higher-order basis for 1D
+maps, set by --basis, --degree and --galerkin-sizes) and cycles, at least
+two. Each path that is run is compared with the cycle expansion; without
+cycles (--methods ulam,galerkin, for maps whose cycles cannot be searched,
+such as the Gauss map's infinitely many laps) no cycle search is made,
+Ulam's method is compared with the Galerkin basis instead, and the advice
+is the partition size Ulam would need.
+
 The error bars are estimates, not rigorous bounds: read "agree" as "consistent
 within the estimated errors" and look at the table before trusting a number.
 
@@ -275,6 +283,13 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 	if (opts.quantity == dynsys.Lyapunov) && s.Dim() != 1 {
 		return nil, usagef("quantity lyapunov is compared for 1D maps only; %s has dimension %d", s.Name, s.Dim())
 	}
+	if opts.methods["cycles"] && opts.expand.cycleFile == "" && s.Dim() == 1 {
+		// Say it before the other paths run, not after.
+		if ls, err := s.Laps(nil); err == nil && len(ls.Laps) > cycles.MaxSymbols {
+			return nil, usagef("%s has %d laps, more than the %d symbols a cycle itinerary can spell, so its cycles cannot be searched; compare Ulam's method with a Galerkin basis instead (--methods ulam,galerkin)",
+				s.Name, len(ls.Laps), cycles.MaxSymbols)
+		}
+	}
 	r := &checkResult{system: s, opts: opts, seconds: map[string]float64{}}
 	start := time.Now()
 	solve := &ulam.SolveSettings{Eigenvalues: 1, Density: s.Dim() == 1}
@@ -337,6 +352,11 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 		r.seconds["galerkin"] = time.Since(start).Seconds()
 	}
 
+	if !opts.methods["cycles"] {
+		r.compareWithoutCycles()
+		return r, nil
+	}
+
 	start = time.Now()
 	expandOpts := opts.expand
 	expandOpts.quantity, expandOpts.beta, expandOpts.eigs, expandOpts.progress = opts.quantity, opts.beta, opts.eigs, opts.progress
@@ -355,30 +375,15 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 	if d := r.expansion.Diagnostics; d.Stalled {
 		stalled = fmt.Sprintf("the cycle expansion's coefficients stop decreasing at length %d: missing cycles, pruning or marginal cycles", d.StallLen)
 	}
-	r.ulamEst = compare.Estimate{Value: math.NaN(), Error: math.NaN(), Last: math.NaN(), Order: math.NaN(),
-		Status: compare.TooFewPoints, Reason: "the Ulam path was not run (--methods)"}
+	r.ulamEst = r.estimateUlam()
 	if len(cells) > 0 {
-		r.ulamEst = compare.Ulam(cells, ulamValues, nil)
-		if r.ulamStop != "" {
-			r.ulamEst.Reason += "; " + r.ulamStop
-		}
 		r.comparison = compare.ComparePaths(compare.Path{Name: "ulam", Estimate: r.ulamEst, Erratic: true}, cyclesPath)
 		if stalled != "" {
 			r.comparison.Unconfirmed(stalled)
 		}
 	}
 	if sizes, values := r.galerkinValues(); len(sizes) > 0 {
-		// Higher-order bases converge fast and regularly: exponentially in
-		// the size of a spectral basis, like h^(p+1) or faster for
-		// piecewise polynomials, so over a doubling or evenly stepped
-		// sequence the differences decay at least geometrically in the
-		// step index. The fit of decaying differences that serves the
-		// cycle expansion extrapolates them, on the index.
-		steps := make([]int, len(sizes))
-		for i := range steps {
-			steps[i] = i + 1
-		}
-		r.galerkinEst = compare.Cycles(steps, values, nil)
+		r.galerkinEst = estimateGalerkin(values)
 		r.galerkinComparison = compare.ComparePaths(compare.Path{Name: "galerkin", Estimate: r.galerkinEst}, cyclesPath)
 		if stalled != "" {
 			r.galerkinComparison.Unconfirmed(stalled)
@@ -390,6 +395,75 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 	r.advice = compare.Advise(cells, ulamValues, orders, cycleValues, opts.tol)
 	return r, nil
 }
+
+// estimateUlam extrapolates the Ulam runs, or returns an estimate with
+// NaN value and error (null in JSON) when --methods leaves the path out.
+func (r *checkResult) estimateUlam() compare.Estimate {
+	cells, values := r.ulamValues()
+	if len(cells) == 0 {
+		return compare.Estimate{Value: math.NaN(), Error: math.NaN(), Last: math.NaN(), Order: math.NaN(),
+			Status: compare.TooFewPoints, Reason: "the Ulam path was not run (--methods)"}
+	}
+	est := compare.Ulam(cells, values, nil)
+	if r.ulamStop != "" {
+		est.Reason += "; " + r.ulamStop
+	}
+	return est
+}
+
+// estimateGalerkin extrapolates the values of a higher-order basis over its
+// sequence of sizes. Higher-order bases converge fast and regularly:
+// exponentially in the size of a spectral basis, like h^(p+1) or faster for
+// piecewise polynomials, so over a doubling or evenly stepped sequence the
+// differences decay at least geometrically in the step index. The fit of
+// decaying differences that serves the cycle expansion extrapolates them,
+// on the index.
+func estimateGalerkin(values []float64) compare.Estimate {
+	steps := make([]int, len(values))
+	for i := range steps {
+		steps[i] = i + 1
+	}
+	return compare.Cycles(steps, values, nil)
+}
+
+// cyclesNotRun is the reason of the cycle estimate and notRun the status of
+// a path and of its verdicts when --methods leaves it out.
+const (
+	cyclesNotRun = "the cycle path was not run (--methods)"
+	notRun       = "not run"
+)
+
+// compareWithoutCycles compares Ulam's method with the higher-order basis
+// when --methods leaves the cycle path out: parseMethods admits no other
+// pair without cycles. Ulam's steps are erratic by nature, those of the
+// higher-order basis are not (see estimateGalerkin). The cycle estimate is
+// NaN (null in JSON) and the comparison of Galerkin against the cycles is
+// left at its zero value; the JSON and text renderings say the cycles were
+// not run instead of showing it.
+//
+// Only the partition size Ulam would need is advised: compare.Advise
+// computes it from the Ulam runs alone, while its cycle length needs the
+// cycle estimates, so its cycle note is dropped with it.
+func (r *checkResult) compareWithoutCycles() {
+	r.cyclesEst = compare.Estimate{Value: math.NaN(), Error: math.NaN(), Last: math.NaN(), Order: math.NaN(),
+		Status: compare.TooFewPoints, Reason: cyclesNotRun}
+	r.ulamEst = r.estimateUlam()
+	_, values := r.galerkinValues()
+	r.galerkinEst = estimateGalerkin(values)
+	r.comparison = compare.ComparePaths(compare.Path{Name: "ulam", Estimate: r.ulamEst, Erratic: true},
+		compare.Path{Name: "galerkin", Estimate: r.galerkinEst})
+	cells, ulamValues := r.ulamValues()
+	advice := compare.Advise(cells, ulamValues, nil, nil, r.opts.tol)
+	r.advice = compare.Advice{CellsNeeded: advice.CellsNeeded}
+	for _, n := range advice.Notes {
+		if !strings.HasPrefix(n, "cycles:") {
+			r.advice.Notes = append(r.advice.Notes, n)
+		}
+	}
+}
+
+// cyclesRun reports whether --methods names the cycle path.
+func (r *checkResult) cyclesRun() bool { return r.opts.methods["cycles"] }
 
 func runCheckCommand(ctx context.Context, e *env, s *dynsys.System, opts checkOptions, command []string) int {
 	start := time.Now()
@@ -449,6 +523,9 @@ func (r *checkResult) columns() []column {
 		}
 		cols = append(cols, column{res, "Galerkin " + q, sizes, gv, 12})
 	}
+	if !r.cyclesRun() {
+		return cols
+	}
 	orders, cv := r.cycleValues()
 	return append(cols, column{"cycle length n", "cycles " + q, orders, cv, 15})
 }
@@ -497,7 +574,9 @@ func (r *checkResult) summaryGrid() *grid {
 	if len(r.galerkinRuns) > 0 {
 		add("Galerkin, "+r.opts.disc.String(), r.galerkinEst, rate(r.galerkinEst.Order, "rate %.2g a step"), 12)
 	}
-	add("cycles", r.cyclesEst, rate(r.cyclesEst.Order, "rate %.2g"), 15)
+	if r.cyclesRun() {
+		add("cycles", r.cyclesEst, rate(r.cyclesEst.Order, "rate %.2g"), 15)
+	}
 	return g
 }
 
@@ -511,6 +590,18 @@ func comparisonLines(title string, c compare.Comparison) []string {
 }
 
 func (r *checkResult) verdictLines() []string {
+	if !r.cyclesRun() {
+		lines := comparisonLines("verdict, Ulam against Galerkin", r.comparison)
+		if a := r.advice; a.CellsNeeded > 0 && !math.IsInf(a.CellsNeeded, 0) {
+			lines = append(lines, fmt.Sprintf("advice: Ulam would need about %.3g cells for the tolerance %g at its observed order", a.CellsNeeded, r.opts.tol))
+		} else {
+			lines = append(lines, fmt.Sprintf("advice: no Ulam partition size can be predicted for the tolerance %g", r.opts.tol))
+		}
+		for _, n := range r.advice.Notes {
+			lines = append(lines, "  "+n)
+		}
+		return lines
+	}
 	var lines []string
 	if len(r.ulamRuns) > 0 {
 		lines = comparisonLines("verdict, Ulam against cycles", r.comparison)
@@ -537,6 +628,12 @@ func (r *checkResult) verdictLines() []string {
 }
 
 // jsonCheck is the check document of DESIGN.md section 6.
+//
+// Agree, Verdict, Discrepancy and Reasons are those of Ulam's method
+// against the cycle expansion when both are run, of Galerkin against the
+// cycles when --methods leaves Ulam out, and of Ulam against Galerkin when
+// it leaves the cycles out. A path that was not run has a null estimate and
+// error.
 type jsonCheck struct {
 	System      string             `json:"system"`
 	Quantity    string             `json:"quantity"`
@@ -561,6 +658,10 @@ type jsonCheckUlam struct {
 	Reason   string        `json:"reason,omitempty"`
 }
 
+// jsonCheckGalerkin is the higher-order basis. Verdict, Discrepancy and
+// Reasons compare it with the cycle expansion; when --methods leaves the
+// cycles out, Verdict is "not run", Discrepancy null and Reasons empty, and
+// the comparison with Ulam's method is the top-level one.
 type jsonCheckGalerkin struct {
 	Basis       string        `json:"basis"`
 	Runs        []ulamRunJSON `json:"runs"`
@@ -572,6 +673,10 @@ type jsonCheckGalerkin struct {
 	Reasons     []string      `json:"reasons"`
 }
 
+// jsonCheckCyc is the cycle path. When --methods leaves it out, Orders is
+// empty, Estimate and Error are null, Status and Source are "not run",
+// Reason says so and RecommendedMaxLen is 0, as when no length reaches the
+// tolerance.
 type jsonCheckCyc struct {
 	Orders            []jsonOrder `json:"orders"`
 	Estimate          jsonFloat   `json:"estimate"`
@@ -601,6 +706,14 @@ func (r *checkResult) json() jsonCheck {
 		doc.Galerkin = &jsonCheckGalerkin{Basis: r.opts.disc.String(), Runs: r.galerkinRuns, Estimate: jsonFloat(r.galerkinEst.Value),
 			Error: jsonFloat(r.galerkinEst.Error), Status: r.galerkinEst.Status.String(), Verdict: g.Verdict.String(),
 			Discrepancy: jsonFloat(g.Discrepancy), Reasons: append([]string{}, g.Reasons...)}
+		if !r.cyclesRun() {
+			doc.Galerkin.Verdict, doc.Galerkin.Discrepancy = notRun, jsonFloat(math.NaN())
+		}
+	}
+	if !r.cyclesRun() {
+		doc.Cycles.Orders = []jsonOrder{}
+		doc.Cycles.Status, doc.Cycles.Source = notRun, notRun
+		return doc
 	}
 	cum := 0
 	for i, o := range r.expansion.Orders {
@@ -626,7 +739,9 @@ func (r *checkResult) write(w io.Writer, format string) error {
 		if len(r.galerkinRuns) > 0 {
 			paths = append(paths, "Galerkin ("+r.opts.disc.String()+")")
 		}
-		paths = append(paths, "the cycle expansion ("+expansionName(r.opts.expand.function)+")")
+		if r.cyclesRun() {
+			paths = append(paths, "the cycle expansion ("+expansionName(r.opts.expand.function)+")")
+		}
 		fmt.Fprintf(w, "%s of %s: %s\n", r.opts.quantity, r.system.Name, strings.Join(paths, " against "))
 	}
 	if err := r.convergenceGrid().render(w, format); err != nil {
@@ -677,6 +792,9 @@ func (r *checkResult) convergenceSeries() []convergenceSeries {
 		}
 		series = append(series, convergenceSeries{label: "Galerkin, " + r.opts.disc.String(), xLabel: xLabel, logX: logX, x: xs(sizes), values: gv, estimate: r.galerkinEst, colour: thirdColour})
 	}
+	if !r.cyclesRun() {
+		return series
+	}
 	return append(series, convergenceSeries{label: "cycle expansion", xLabel: "cycle length n", x: xs(orders), values: cv, estimate: r.cyclesEst, colour: cyclesColour})
 }
 
@@ -684,7 +802,16 @@ func (r *checkResult) writeConvergencePlot(path string) error {
 	return writeConvergencePlot(path, r.system.Name, string(r.opts.quantity), r.convergenceSeries())
 }
 
+// writeSpectrumPlot draws the leading eigenvalues of Ulam's largest grid
+// against those of the cycle expansion or, when --methods leaves the
+// cycles out, against those of the largest size of the higher-order basis.
 func (r *checkResult) writeSpectrumPlot(path string) error {
+	ulamSet := spectrumSet{label: "Ulam, largest grid", values: r.ulamLast.Eigenvalues, colour: ulamColour, shape: draw.RingGlyph{}}
+	if !r.cyclesRun() {
+		return writeSpectrumPlot(path, r.system.Name+": leading eigenvalues", []spectrumSet{ulamSet,
+			{label: "Galerkin, largest size", values: r.galerkinLast.Eigenvalues, colour: thirdColour, shape: draw.CrossGlyph{}},
+		})
+	}
 	// The eigenvalues of the length the cycle estimate was taken at: later
 	// lengths add round-off to the subleading zeros.
 	var cyc []complex128
@@ -700,7 +827,7 @@ func (r *checkResult) writeSpectrumPlot(path string) error {
 		}
 	}
 	return writeSpectrumPlot(path, r.system.Name+": leading eigenvalues", []spectrumSet{
-		{label: "Ulam, largest grid", values: r.ulamLast.Eigenvalues, colour: ulamColour, shape: draw.RingGlyph{}},
+		ulamSet,
 		{label: fmt.Sprintf("cycle expansion, length %d", r.expansion.Estimate.Len), values: cyc, colour: cyclesColour, shape: draw.CrossGlyph{}},
 	})
 }
@@ -754,8 +881,10 @@ func (r *checkResult) writeAll(dir string, command []string) ([]string, error) {
 	m := newManifest(command, r.system)
 	m.Flags["quantity"] = string(r.opts.quantity)
 	m.Flags["beta"] = strconv.FormatFloat(r.opts.beta, 'g', -1, 64)
-	m.Flags["max-len"] = strconv.Itoa(r.opts.expand.maxLen)
-	m.Flags["expansion"] = expansionName(r.opts.expand.function)
+	if r.cyclesRun() {
+		m.Flags["max-len"] = strconv.Itoa(r.opts.expand.maxLen)
+		m.Flags["expansion"] = expansionName(r.opts.expand.function)
+	}
 	m.Flags["tol"] = strconv.FormatFloat(r.opts.tol, 'g', -1, 64)
 	m.Flags["points"] = strconv.Itoa(r.opts.points)
 	var cells []string
@@ -763,12 +892,33 @@ func (r *checkResult) writeAll(dir string, command []string) ([]string, error) {
 		cells = append(cells, strconv.Itoa(run.GridCells))
 	}
 	m.Flags["cells"] = strings.Join(cells, ",")
-	if r.opts.expand.cycleFile != "" {
-		m.Flags["cycles"] = r.opts.expand.cycleFile
+	if r.cyclesRun() {
+		if r.opts.expand.cycleFile != "" {
+			m.Flags["cycles"] = r.opts.expand.cycleFile
+		}
+		m.Counts["prime_cycles_per_length"] = r.info.counts
+		m.Notes = append(m.Notes, r.info.status)
+	} else {
+		m.Notes = append(m.Notes, cyclesNotRun)
 	}
-	m.Counts["prime_cycles_per_length"] = r.info.counts
+	var methods []string
+	for _, name := range []string{"ulam", "galerkin", "cycles"} {
+		if r.opts.methods[name] {
+			methods = append(methods, name)
+		}
+	}
+	m.Flags["methods"] = strings.Join(methods, ",")
+	if len(r.galerkinRuns) > 0 {
+		// The Galerkin settings, without which this run is not reproduced.
+		var sizes []string
+		for _, run := range r.galerkinRuns {
+			sizes = append(sizes, strconv.Itoa(run.GridCells))
+		}
+		m.Flags["basis"] = r.opts.disc.basis.String()
+		m.Flags["degree"] = strconv.Itoa(r.opts.disc.degree)
+		m.Flags["galerkin-sizes"] = strings.Join(sizes, ",")
+	}
 	m.Seconds = r.seconds
-	m.Notes = append(m.Notes, r.info.status)
 	m.Outputs = append([]string(nil), files...)
 	if err := save("manifest.json", m.write); err != nil {
 		return nil, err
