@@ -580,6 +580,15 @@ func (r *checkResult) summaryGrid() *grid {
 	return g
 }
 
+// cellsNeeded words the partition size of the advice: a figure beyond
+// 10^12 cells (far past any machine's memory) is reported as such.
+func cellsNeeded(n float64) string {
+	if n > 1e12 {
+		return "more than 1e12 cells (out of reach: Ulam converges too slowly here)"
+	}
+	return fmt.Sprintf("about %.3g cells", n)
+}
+
 func comparisonLines(title string, c compare.Comparison) []string {
 	lines := []string{fmt.Sprintf("%s: %s (discrepancy %.2g combined errors; agree ≤ %g, disagree > %g)",
 		title, c.Verdict, c.Discrepancy, compare.AgreeWithin, compare.DisagreeBeyond)}
@@ -593,7 +602,7 @@ func (r *checkResult) verdictLines() []string {
 	if !r.cyclesRun() {
 		lines := comparisonLines("verdict, Ulam against Galerkin", r.comparison)
 		if a := r.advice; a.CellsNeeded > 0 && !math.IsInf(a.CellsNeeded, 0) {
-			lines = append(lines, fmt.Sprintf("advice: Ulam would need about %.3g cells for the tolerance %g at its observed order", a.CellsNeeded, r.opts.tol))
+			lines = append(lines, fmt.Sprintf("advice: Ulam would need %s for the tolerance %g at its observed order", cellsNeeded(a.CellsNeeded), r.opts.tol))
 		} else {
 			lines = append(lines, fmt.Sprintf("advice: no Ulam partition size can be predicted for the tolerance %g", r.opts.tol))
 		}
@@ -616,7 +625,7 @@ func (r *checkResult) verdictLines() []string {
 		lines = append(lines, fmt.Sprintf("advice: no cycle length up to %d reaches the tolerance %g", r.opts.expand.maxLen, r.opts.tol))
 	}
 	if a.CellsNeeded > 0 && !math.IsInf(a.CellsNeeded, 0) {
-		lines = append(lines, fmt.Sprintf("  Ulam would need about %.3g cells for the same tolerance at its observed order", a.CellsNeeded))
+		lines = append(lines, fmt.Sprintf("  Ulam would need %s for the same tolerance at its observed order", cellsNeeded(a.CellsNeeded)))
 	}
 	for _, n := range a.Notes {
 		lines = append(lines, "  "+n)
@@ -700,6 +709,9 @@ func (r *checkResult) json() jsonCheck {
 	}
 	if doc.Reasons == nil {
 		doc.Reasons = []string{}
+	}
+	if !r.opts.methods["ulam"] {
+		doc.Ulam.Status = notRun
 	}
 	if len(r.galerkinRuns) > 0 {
 		g := r.galerkinComparison

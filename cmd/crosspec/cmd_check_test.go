@@ -228,6 +228,10 @@ func TestCheckGalerkin(t *testing.T) {
 	if g["verdict_against_cycles"] != "agree" || field(t, doc, "verdict") != "agree" {
 		t.Errorf("verdicts %v and %v", g["verdict_against_cycles"], field(t, doc, "verdict"))
 	}
+	// The Ulam path left out: null estimate, status "not run".
+	if field(t, doc, "ulam", "estimate") != nil || field(t, doc, "ulam", "status") != "not run" {
+		t.Errorf("ulam left out: estimate %v, status %v", field(t, doc, "ulam", "estimate"), field(t, doc, "ulam", "status"))
+	}
 	if code, _, stderr := runCLI("check", "doubling", "--methods", "galerkin"); code != exitUsage || !strings.Contains(stderr, "name at least two paths") {
 		t.Errorf("one method: exit %d, %q", code, stderr)
 	}
