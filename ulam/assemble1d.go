@@ -138,31 +138,45 @@ func assemble1D(sys *dynsys.System, g Grid, wt weight, set *Settings) (*Matrix, 
 		total += blk.bound
 	}
 
-	rowPtr := make([]int, n+1)
-	col := make([]int, total)
-	val := make([]float64, total)
-	var deriv []float64
-	if wt.deriv {
-		deriv = make([]float64, total)
-	}
+	// The output arrays are zeroed by the allocator: a memory-bound pass
+	// over 50 MB at 10⁶ cells, shared out among the cores.
+	var (
+		rowPtr, col, cells []int
+		val, deriv         []float64
+	)
+	parallel(
+		func() { col = make([]int, total) },
+		func() {
+			val = make([]float64, total)
+			if wt.deriv {
+				deriv = make([]float64, total)
+			}
+		},
+		func() {
+			rowPtr = make([]int, n+1)
+			cells = make([]int, n)
+		},
+	)
 	nq := set.Quadrature
 	qx, qw := make([]float64, nq), make([]float64, nq)
 	quad.Legendre{}.FixedLocations(qx, qw, -1, 1)
 
-	cells := make([]int, n)
 	// Each block writes its entries into its slot, sorts and merges them
-	// there, and then moves them down to close the gaps left by the
-	// blocks before it: in block order, so that a move never overwrites
-	// entries still to be moved. ends[b] is where block b's entries end
-	// once moved; done[b] is closed when ends[b] is set.
-	ends := make([]int, len(blocks))
-	done := make([]chan struct{}, len(blocks))
-	for b := range done {
-		done[b] = make(chan struct{})
-	}
+	// there (compute); then, in block order, they are moved down to close
+	// the gaps left by the blocks before it and the block's row counts
+	// become row pointers (place). counts[b] is the number of entries of
+	// block b; write is where the placed entries end.
+	counts := make([]int, len(blocks))
+	write := 0
 	workers := make([]*assembler1D, runtime.GOMAXPROCS(0))
-	forEachBlock(len(blocks), func(worker, b int) {
+	compute := func(worker, b int) {
 		blk := &blocks[b]
+		for i := blk.i0; i < blk.i1; i++ {
+			cells[i] = i
+		}
+		if len(blk.items) == 0 {
+			return
+		}
 		a := workers[worker]
 		if a == nil {
 			a = &assembler1D{
@@ -175,16 +189,14 @@ func assemble1D(sys *dynsys.System, g Grid, wt weight, set *Settings) (*Matrix, 
 		}
 		a.pos = blk.offset
 		a.mustMerge = false
-		if len(blk.items) > 0 {
-			a.base = blk.i0
-			a.edges = grow(a.edges, blk.i1-blk.i0+1)
-			a.invWidth = grow(a.invWidth, blk.i1-blk.i0)
-			for c := blk.i0; c <= blk.i1; c++ {
-				a.edges[c-blk.i0] = g.Edge(0, c)
-			}
-			for c := blk.i0; c < blk.i1; c++ {
-				a.invWidth[c-blk.i0] = 1 / (a.edges[c+1-blk.i0] - a.edges[c-blk.i0])
-			}
+		a.base = blk.i0
+		a.edges = grow(a.edges, blk.i1-blk.i0+1)
+		a.invWidth = grow(a.invWidth, blk.i1-blk.i0)
+		for c := blk.i0; c <= blk.i1; c++ {
+			a.edges[c-blk.i0] = g.Edge(0, c)
+		}
+		for c := blk.i0; c < blk.i1; c++ {
+			a.invWidth[c-blk.i0] = 1 / (a.edges[c+1-blk.i0] - a.edges[c-blk.i0])
 		}
 		for _, it := range blk.items {
 			if it.piece != nil {
@@ -193,38 +205,29 @@ func assemble1D(sys *dynsys.System, g Grid, wt weight, set *Settings) (*Matrix, 
 				a.narrow(it.group)
 			}
 		}
-		count := a.pos - blk.offset
+		counts[b] = a.pos - blk.offset
 		if a.mustMerge {
-			count = mergeRows(col, val, deriv, rowPtr[1:], blk.i0, blk.i1, blk.offset)
+			counts[b] = mergeRows(col, val, deriv, rowPtr[1:], blk.i0, blk.i1, blk.offset)
 		}
-		for i := blk.i0; i < blk.i1; i++ {
-			cells[i] = i
-		}
-		start := 0
-		if b > 0 {
-			<-done[b-1]
-			start = ends[b-1]
-		}
-		if start != blk.offset {
-			copy(col[start:], col[blk.offset:blk.offset+count])
-			copy(val[start:], val[blk.offset:blk.offset+count])
+	}
+	place := func(b int) {
+		blk := &blocks[b]
+		if count := counts[b]; write != blk.offset && count > 0 {
+			copy(col[write:], col[blk.offset:blk.offset+count])
+			copy(val[write:], val[blk.offset:blk.offset+count])
 			if deriv != nil {
-				copy(deriv[start:], deriv[blk.offset:blk.offset+count])
+				copy(deriv[write:], deriv[blk.offset:blk.offset+count])
 			}
 		}
 		// Row counts to row pointers.
-		end := start
+		end := write
 		for i := blk.i0; i < blk.i1; i++ {
 			end += rowPtr[i+1]
 			rowPtr[i+1] = end
 		}
-		ends[b] = end
-		close(done[b])
-	})
-	write := 0
-	if len(ends) > 0 {
-		write = ends[len(ends)-1]
+		write = end
 	}
+	forEachBlockOrdered(len(blocks), compute, place)
 	m := &Matrix{
 		Grid:           g,
 		Cells:          cells,
@@ -408,7 +411,7 @@ func (a *assembler1D) sweep(p *piece) {
 	}
 	a.pre = grow(a.pre, m)
 	pre := a.pre[:m]
-	a.solver.edgePreimages(pre, targets, p.lo, p.hi, p.ylo, p.yhi, l)
+	a.solver.gridPreimages(pre, targets, p.lo, p.hi, p.ylo, p.yhi, l)
 	i := g.firstEdgeAbove(p.lo) - 1
 	lastEdge := g.lastEdgeBelow(p.hi)
 	if a.wt.uniform {
@@ -448,12 +451,13 @@ func (a *assembler1D) sweep(p *piece) {
 // length of its piece over the cell width: source cells i … lastCell
 // (lastCell the largest edge index below x1) cut by the preimages pre of
 // the target edges, met in the order of t += step starting in target cell
-// t, on [x0, x1]. Each cell receives one run of consecutive columns; on a
-// decreasing lap the run is reversed in place so that every run is
-// increasing, and only a row that receives a second run (a cell shared by
-// two laps) leaves the block to be merged.
+// t, on [x0, x1]. Each cell receives one run of consecutive columns, which
+// on a decreasing lap is written from its right end so that every run is
+// increasing; only a row that receives a second run (a cell shared by two
+// laps) leaves the block to be merged. A piece of zero length (a preimage
+// on a cell edge) is left out.
 func (a *assembler1D) sweepUniform(pre []float64, i, lastCell, t, step int, x0, x1 float64) {
-	n := a.g.Shape[0]
+	n := uint(a.g.Shape[0])
 	col, val, rowCount := a.col, a.val, a.rowCount
 	edges, invWidth := a.edges, a.invWidth // of the block's cells, from a.base
 	w := a.pos
@@ -468,28 +472,48 @@ func (a *assembler1D) sweepUniform(pre []float64, i, lastCell, t, step int, x0, 
 		}
 		iw := invWidth[c-a.base]
 		start := w
-		pos := left
-		for ; k < len(pre) && pre[k] < right; k++ {
-			if x := pre[k]; x > pos {
-				if t >= 0 && t < n {
+		first := k
+		for k < len(pre) && pre[k] < right {
+			k++
+		}
+		// The preimages pre[first:k] are non-decreasing and lie in
+		// [left, right): the pieces are [left, pre[first]], …,
+		// [pre[k−1], right], in target cells t, t+step, … .
+		if step > 0 {
+			pos := left
+			for _, x := range pre[first:k] {
+				if x > pos && uint(t) < n {
 					col[w] = t
 					val[w] = (x - pos) * iw
 					w++
 				}
 				pos = x
+				t++
 			}
-			t += step
-		}
-		if right > pos && t >= 0 && t < n {
-			col[w] = t
-			val[w] = (right - pos) * iw
-			w++
-		}
-		if step < 0 {
-			for p, q := start, w-1; p < q; p, q = p+1, q-1 {
-				col[p], col[q] = col[q], col[p]
-				val[p], val[q] = val[q], val[p]
+			if right > pos && uint(t) < n {
+				col[w] = t
+				val[w] = (right - pos) * iw
+				w++
 			}
+		} else {
+			t -= k - first // the target of [pre[k−1], right]
+			end := right
+			for q := k - 1; q >= first; q-- {
+				x := pre[q]
+				if end > x && uint(t) < n {
+					col[w] = t
+					val[w] = (end - x) * iw
+					w++
+				}
+				end = x
+				t++
+			}
+			if end > left && uint(t) < n {
+				col[w] = t
+				val[w] = (end - left) * iw
+				w++
+			}
+			t -= k - first // back to the target of [pre[k−1], right]
 		}
 		if rowCount[c] > 0 {
 			a.mustMerge = true

@@ -22,7 +22,7 @@
 // and the average of a over the natural measure is d ln λ_0/dβ.
 //
 // A 1D map is assembled exactly: on each monotone lap the preimages of the
-// cell edges are found to full double precision (every sixteenth by a
+// cell edges are found to full double precision (every thirty-second by a
 // batched safeguarded secant iteration from inverse quadratic
 // interpolation of samples; those in between by a cubic continuation from
 // them and one Newton step with the cubic's slope, a coarse step whose
