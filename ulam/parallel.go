@@ -45,14 +45,6 @@ func forEachBlock(blocks int, fn func(worker, block int)) {
 // computing. place may therefore rely on the blocks before it having been
 // placed, and on nothing else.
 func forEachBlockOrdered(blocks int, compute func(worker, block int), place func(block int)) {
-	workers := min(runtime.GOMAXPROCS(0), blocks)
-	if workers <= 1 {
-		for b := range blocks {
-			compute(0, b)
-			place(b)
-		}
-		return
-	}
 	var (
 		mu       sync.Mutex
 		computed = make([]bool, blocks)
@@ -85,23 +77,10 @@ func forEachBlockOrdered(blocks int, compute func(worker, block int), place func
 			mu.Lock()
 		}
 	}
-	var counter atomic.Int64
-	var wg sync.WaitGroup
-	for w := range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				b := int(counter.Add(1)) - 1
-				if b >= blocks {
-					return
-				}
-				compute(w, b)
-				finished(b)
-			}
-		}()
-	}
-	wg.Wait()
+	forEachBlock(blocks, func(worker, b int) {
+		compute(worker, b)
+		finished(b)
+	})
 }
 
 // parallel runs the functions concurrently on up to GOMAXPROCS goroutines
