@@ -236,7 +236,7 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 		}
 		rule, err := newTailRule(r.nu0, 0, len(r.laps)-1, set.TailNodes, tailPower(set.Observable, set.Beta))
 		if err != nil {
-			return nil, fmt.Errorf("galerkin: %s at β = %g: %w", sys.Name, set.Beta, err)
+			return nil, fmt.Errorf("%w (%s at β = %g)", err, sys.Name, set.Beta)
 		}
 		tp := tailPart{cell: cell, weights: rule.weights, shifts: logShifts(set.Observable, r.nu0, rule)}
 		for _, rk := range rule.ranks {

@@ -194,7 +194,7 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 		}
 		rule, err := newTailRule(r.nu0, first, len(r.laps)-1, set.TailNodes, tailPower(set.Observable, set.Beta))
 		if err != nil {
-			return nil, fmt.Errorf("galerkin: %s at β = %g: %w", sys.Name, set.Beta, err)
+			return nil, fmt.Errorf("%w (%s at β = %g)", err, sys.Name, set.Beta)
 		}
 		shifts := logShifts(set.Observable, r.nu0, rule)
 		for k, rk := range rule.ranks {

@@ -356,9 +356,13 @@ func TestTailRulePowers(t *testing.T) {
 			t.Errorf("ν = %g, y = %g, P = %g: sums %.16g and %.16g, want %.16g and %.16g", c.nu, c.y, c.p, got, gotLog, c.want, c.wantLog)
 		}
 	}
-	// P ≤ 1: the sum over the laps diverges.
+	// P ≤ 1: the sum over the laps diverges, and the Gauss map's matrix
+	// for the weight |f'|^0.6 (P = 0.8) cannot be built.
 	if _, err := newTailRule(8, 0, 30000, 20, 1); !errors.Is(err, ErrTailDiverges) {
 		t.Errorf("P = 1: error %v, want ErrTailDiverges", err)
+	}
+	if _, err := AssembleCells(lookup(t, "gauss"), &Settings{Cells: 8, Degree: 3, Observable: ulam.LogExpansion, Beta: 0.6}); !errors.Is(err, ErrTailDiverges) {
+		t.Errorf("Gauss map, |f'|^0.6: error %v, want ErrTailDiverges", err)
 	}
 }
 
