@@ -814,15 +814,14 @@ func (r *checkResult) writeConvergencePlot(path string) error {
 	return writeConvergencePlot(path, r.system.Name, string(r.opts.quantity), r.convergenceSeries())
 }
 
-// writeSpectrumPlot draws the leading eigenvalues of Ulam's largest grid
-// against those of the cycle expansion or, when --methods leaves the
-// cycles out, against those of the largest size of the higher-order basis.
+// writeSpectrumPlot draws the leading eigenvalues of Ulam's largest grid,
+// of the cycle expansion and of the largest size of the higher-order basis,
+// for the paths --methods names.
 func (r *checkResult) writeSpectrumPlot(path string) error {
 	ulamSet := spectrumSet{label: "Ulam, largest grid", values: r.ulamLast.Eigenvalues, colour: ulamColour, shape: draw.RingGlyph{}}
+	galerkinSet := spectrumSet{label: "Galerkin, largest size", values: r.galerkinLast.Eigenvalues, colour: thirdColour, shape: draw.SquareGlyph{}}
 	if !r.cyclesRun() {
-		return writeSpectrumPlot(path, r.system.Name+": leading eigenvalues", []spectrumSet{ulamSet,
-			{label: "Galerkin, largest size", values: r.galerkinLast.Eigenvalues, colour: thirdColour, shape: draw.CrossGlyph{}},
-		})
+		return writeSpectrumPlot(path, r.system.Name+": leading eigenvalues", []spectrumSet{ulamSet, galerkinSet})
 	}
 	// The eigenvalues of the length the cycle estimate was taken at: later
 	// lengths add round-off to the subleading zeros.
@@ -838,10 +837,15 @@ func (r *checkResult) writeSpectrumPlot(path string) error {
 			cyc = append(cyc, ev.Value)
 		}
 	}
-	return writeSpectrumPlot(path, r.system.Name+": leading eigenvalues", []spectrumSet{
-		ulamSet,
-		{label: fmt.Sprintf("cycle expansion, length %d", r.expansion.Estimate.Len), values: cyc, colour: cyclesColour, shape: draw.CrossGlyph{}},
-	})
+	var sets []spectrumSet
+	if len(r.ulamRuns) > 0 {
+		sets = append(sets, ulamSet)
+	}
+	sets = append(sets, spectrumSet{label: fmt.Sprintf("cycle expansion, length %d", r.expansion.Estimate.Len), values: cyc, colour: cyclesColour, shape: draw.CrossGlyph{}})
+	if len(r.galerkinRuns) > 0 {
+		sets = append(sets, galerkinSet)
+	}
+	return writeSpectrumPlot(path, r.system.Name+": leading eigenvalues", sets)
 }
 
 // writeAll writes every rendering, the plots and the manifest into dir.
