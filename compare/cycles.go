@@ -15,37 +15,70 @@ import (
 // the drop is reported in Reason.
 func Cycles(orders []int, values []float64, s *Settings) Estimate {
 	checkShape("Cycles", "orders", orders, values)
+	return fastSequence(cycleWords, orders, values, s)
+}
+
+// Galerkin analyses the estimates of a higher-order discretization
+// (piecewise polynomials or a global spectral basis) over a sequence of
+// sizes, steps[i] the index of the size (1, 2, …). Such bases converge
+// fast and regularly: exponentially in the size of a spectral basis, like
+// h^(p+1) or faster for piecewise polynomials, so over a doubling or
+// evenly stepped sequence of sizes the differences decay at least
+// geometrically in the step, and the model of Cycles applies on the
+// index; only the diagnoses of a stall differ (spurious eigenvalues of the
+// basis, a floor of the quadrature or tail model, instead of missing
+// cycles). Galerkin panics as Cycles does.
+func Galerkin(steps []int, values []float64, s *Settings) Estimate {
+	checkShape("Galerkin", "steps", steps, values)
+	return fastSequence(galerkinWords, steps, values, s)
+}
+
+// pathWords names a fast-converging path in its reasons, and the likely
+// causes of its stalls.
+type pathWords struct {
+	name        string // prefix of the reasons
+	sequence    string // what converges
+	alternating string // cause of differences alternating without decay
+	plateau     string // cause of differences stopping far above round-off
+}
+
+var (
+	cycleWords    = pathWords{"cycles", "the expansion", "marginal cycles or pruning", "missing cycles?"}
+	galerkinWords = pathWords{"galerkin", "the discretization", "spurious eigenvalues of the basis?", "spurious eigenvalues, or a floor of the quadrature or tail model?"}
+)
+
+func fastSequence(w pathWords, orders []int, values []float64, s *Settings) Estimate {
 	set := s.withDefaults()
 	orders, values, note := dropNonFinite(orders, values)
-	est := cycles(orders, values, set)
+	est := cycles(w, orders, values, set)
 	est.Reason = note + est.Reason
 	return est
 }
 
-func cycles(orders []int, values []float64, set Settings) Estimate {
+func cycles(w pathWords, orders []int, values []float64, set Settings) Estimate {
 	n := len(values)
 	if n == 0 {
 		return Estimate{Value: math.NaN(), Error: math.Inf(1), Last: math.NaN(), Order: math.NaN(),
-			Status: TooFewPoints, Reason: "cycles: no estimates"}
+			Status: TooFewPoints, Reason: w.name + ": no estimates"}
 	}
 	last := values[n-1]
 	scale := maxAbs(values)
 	if n == 1 {
 		return Estimate{Value: last, Error: math.Inf(1), Last: last, Order: math.NaN(),
-			Status: TooFewPoints, Reason: "cycles: a single estimate has no error bar", Used: orders[0]}
+			Status: TooFewPoints, Reason: w.name + ": a single estimate has no error bar", Used: orders[0]}
 	}
 	d := differences(values)
 	if start := roundOffFloor(d, set.RoundOff*scale); start >= 0 {
-		return floorEstimate(orders, values, start, set, scale, "cycles")
+		return floorEstimate(orders, values, start, set, scale, w.name)
 	}
 	minErr := minError(scale)
 	if n < set.MinPoints {
 		return Estimate{Value: last, Error: math.Max(set.SpreadFactor*spread(values, last), minErr), Last: last,
 			Order: math.NaN(), Status: TooFewPoints, Used: orders[n-1],
-			Reason: fmt.Sprintf("cycles: %d estimates, at least %d needed to judge the convergence; error from their spread", n, set.MinPoints)}
+			Reason: fmt.Sprintf("%s: %d estimates, at least %d needed to judge the convergence; error from their spread", w.name, n, set.MinPoints)}
 	}
 
-	if est, stalled := stall(orders, values, d, set); stalled {
+	if est, stalled := stall(w, orders, values, d, set); stalled {
 		est.Error = math.Max(est.Error, minErr)
 		return est
 	}
@@ -56,7 +89,7 @@ func cycles(orders []int, values []float64, set Settings) Estimate {
 	spreadErr := math.Max(set.SpreadFactor*spread(tail(values, set.SpreadPoints), last), minErr)
 	irregular := func(order float64, why string) Estimate {
 		return Estimate{Value: last, Error: spreadErr, Last: last, Order: order, Status: Irregular,
-			Used: orders[n-1], Reason: "cycles: " + why + "; value is the last estimate, error from the spread of the last estimates"}
+			Used: orders[n-1], Reason: w.name + ": " + why + "; value is the last estimate, error from the spread of the last estimates"}
 	}
 	for _, di := range tail(d, set.FitPoints) {
 		if di == 0 {
@@ -66,8 +99,8 @@ func cycles(orders []int, values []float64, set Settings) Estimate {
 	if largest := maxAbs(d); !(math.Abs(d[len(d)-1]) <= 0.1*largest) {
 		return Estimate{Value: last, Error: spreadErr, Last: last, Order: math.NaN(), Status: NotConverging,
 			Used: orders[n-1],
-			Reason: fmt.Sprintf("cycles: the last difference %.2g is not a decade below the largest %.2g: the expansion has not settled into its asymptotic decay; value is the last estimate, error from the spread of the last estimates",
-				math.Abs(d[len(d)-1]), largest)}
+			Reason: fmt.Sprintf("%s: the last difference %.2g is not a decade below the largest %.2g: %s has not settled into its asymptotic decay; value is the last estimate, error from the spread of the last estimates",
+				w.name, math.Abs(d[len(d)-1]), largest, w.sequence)}
 	}
 	trend := fitDecay(tail(d, set.FitPoints))
 	order := trend.rate / step
@@ -99,8 +132,8 @@ func cycles(orders []int, values []float64, set Settings) Estimate {
 		bound, _ := trend.tail(1, 1, miss)
 		return Estimate{Value: last, Error: math.Max(set.TailFactor*bound, spreadErr), Last: last, Order: order,
 			Status: Irregular, Used: orders[n-1],
-			Reason: fmt.Sprintf("cycles: differences decay (rate %.3g per step) but their signs are irregular; value is the last estimate, error the larger of %g times the predicted size of the tail and the spread of the last estimates",
-				trend.rate, set.TailFactor)}
+			Reason: fmt.Sprintf("%s: differences decay (rate %.3g per step) but their signs are irregular; value is the last estimate, error the larger of %g times the predicted size of the tail and the spread of the last estimates",
+				w.name, trend.rate, set.TailFactor)}
 	}
 	// A last difference within a decade of the round-off level carries a
 	// rounding error of its own size: the fitted decay cannot be trusted
@@ -112,8 +145,8 @@ func cycles(orders []int, values []float64, set Settings) Estimate {
 	}
 	return Estimate{Value: last + predicted, Error: errBar, Last: last, Order: order,
 		Status: Converged, Used: orders[n-1],
-		Reason: fmt.Sprintf("cycles: differences decay at rate %.3g per step (rate growing by %.3g per step); tail of the future differences added, error from the back-tested miss %.3g in ln|d|",
-			trend.rate, trend.growth, miss)}
+		Reason: fmt.Sprintf("%s: differences decay at rate %.3g per step (rate growing by %.3g per step); tail of the future differences added, error from the back-tested miss %.3g in ln|d|",
+			w.name, trend.rate, trend.growth, miss)}
 }
 
 // decayTrend is a least-squares fit ln|d_k| ≈ c0 + c1 k + c2 k² of the
@@ -231,7 +264,7 @@ func fitPoly(y []float64, degree int) (c0, c1, c2 float64) {
 // alternate), the Plateau estimate (the earlier differences were more than
 // ten times larger: the sequence had converged, then stopped) or the
 // NotConverging estimate.
-func stall(orders []int, values, d []float64, set Settings) (Estimate, bool) {
+func stall(words pathWords, orders []int, values, d []float64, set Settings) (Estimate, bool) {
 	w := min(set.StallWindow, len(d))
 	if w < 2 {
 		return Estimate{}, false
@@ -261,17 +294,17 @@ func stall(orders []int, values, d []float64, set Settings) (Estimate, bool) {
 		}
 		return Estimate{Value: 0.5 * (values[n-1] + values[n-2]), Error: set.SpreadFactor * 0.5 * (hi - lo), Last: last,
 			Order: order, Status: Oscillating, Used: orders[n-1],
-			Reason: fmt.Sprintf("cycles: the last %d differences alternate in sign without decaying (about %.2g per step, level %.2g): marginal cycles or pruning; value is the midpoint of the last two estimates",
-				w, perStep, level)}, true
+			Reason: fmt.Sprintf("%s: the last %d differences alternate in sign without decaying (about %.2g per step, level %.2g): %s; value is the midpoint of the last two estimates",
+				words.name, w, perStep, level, words.alternating)}, true
 	}
 	err := math.Max(set.SpreadFactor*spread(recent, last), level)
 	if before := d[:len(d)-w]; !(maxAbs(before) > 10*level) {
 		return Estimate{Value: last, Error: err, Last: last, Order: order, Status: NotConverging, Used: orders[n-1],
-			Reason: fmt.Sprintf("cycles: the last %d differences (about %.2g) are not smaller than the earlier ones by a decade: the expansion has not started to converge; value is the last estimate, error from the recent spread",
-				w, level)}, true
+			Reason: fmt.Sprintf("%s: the last %d differences (about %.2g) are not smaller than the earlier ones by a decade: %s has not started to converge; value is the last estimate, error from the recent spread",
+				words.name, w, level, words.sequence)}, true
 	}
 	return Estimate{Value: last, Error: err, Last: last,
 		Order: order, Status: Plateau, Used: orders[n-1],
-		Reason: fmt.Sprintf("cycles: the last %d differences stopped decreasing at about %.2g (per step ×%.2g), far above round-off: missing cycles?; value is the last estimate, error not below the plateau level",
-			w, level, perStep)}, true
+		Reason: fmt.Sprintf("%s: the last %d differences stopped decreasing at about %.2g (per step ×%.2g), far above round-off: %s; value is the last estimate, error not below the plateau level",
+			words.name, w, level, perStep, words.plateau)}, true
 }

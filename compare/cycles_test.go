@@ -142,6 +142,15 @@ func TestCyclesPlateau(t *testing.T) {
 	if !strings.Contains(e.Reason, "missing cycles") {
 		t.Errorf("reason %q does not name the likely cause", e.Reason)
 	}
+	// The same sequence from a higher-order basis: the same estimate,
+	// its own name and causes in the reason.
+	g := Galerkin(orders, values, nil)
+	if g.Value != e.Value || g.Error != e.Error || g.Status != e.Status {
+		t.Errorf("Galerkin %v ± %v (%v), Cycles %v ± %v (%v)", g.Value, g.Error, g.Status, e.Value, e.Error, e.Status)
+	}
+	if !strings.HasPrefix(g.Reason, "galerkin: ") || strings.Contains(g.Reason, "cycles") || !strings.Contains(g.Reason, "spurious eigenvalues") {
+		t.Errorf("Galerkin reason %q", g.Reason)
+	}
 }
 
 // Oscillation: sign alternation without decay (marginal cycles, pruning).

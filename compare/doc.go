@@ -50,6 +50,11 @@
 // the fit is exact and the tail d q/(1 − q) is Aitken's Δ² extrapolation
 // (A. C. Aitken, Proc. R. Soc. Edinburgh 46 (1926) 289–305, from memory).
 //
+// Galerkin applies the same model to a higher-order discretization over a
+// sequence of sizes, on the index of the size (such bases converge at least
+// geometrically in it); its reasons name the causes of a stall that fit it
+// (spurious eigenvalues of the basis, a quadrature or tail-model floor).
+//
 // # Stagnation
 //
 // Detected in this order, and reported in Status and Reason:
@@ -59,7 +64,7 @@
 //     estimates on the floor, the error SpreadFactor times their range (at
 //     least four units of round-off).
 //   - too few points (TooFewPoints) below MinPoints estimates.
-//   - for cycles, a stall: over the last StallWindow differences the larger
+//   - for cycles (and Galerkin), a stall: over the last StallWindow differences the larger
 //     one of the second half is at least StallRatio per step of the larger one
 //     of the first half. Alternating signs make it Oscillating (value the
 //     midpoint of the last two, error SpreadFactor times half the swing);

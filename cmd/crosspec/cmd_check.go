@@ -412,18 +412,13 @@ func (r *checkResult) estimateUlam() compare.Estimate {
 }
 
 // estimateGalerkin extrapolates the values of a higher-order basis over its
-// sequence of sizes. Higher-order bases converge fast and regularly:
-// exponentially in the size of a spectral basis, like h^(p+1) or faster for
-// piecewise polynomials, so over a doubling or evenly stepped sequence the
-// differences decay at least geometrically in the step index. The fit of
-// decaying differences that serves the cycle expansion extrapolates them,
-// on the index.
+// sequence of sizes (compare.Galerkin, on the index of the size).
 func estimateGalerkin(values []float64) compare.Estimate {
 	steps := make([]int, len(values))
 	for i := range steps {
 		steps[i] = i + 1
 	}
-	return compare.Cycles(steps, values, nil)
+	return compare.Galerkin(steps, values, nil)
 }
 
 // cyclesNotRun is the reason of the cycle estimate and notRun the status of
