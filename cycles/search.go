@@ -52,6 +52,14 @@ type SearchSettings struct {
 	// MaxIter bounds the stabilised iterations per seed and matrix
 	// (d ≥ 2). Default 200.
 	MaxIter int
+	// Shard and Shards select one part of a search split into Shards
+	// parts, numbered 1…Shards, that separate processes (cluster array
+	// jobs) run and MergeShards joins. A 1D map's Lyndon words are split
+	// by their itinerary prefix; a map with d ≥ 2 splits its seeds (see
+	// MergeShards). A shard's result
+	// has Status SearchPartial and claims no completeness. Default
+	// Shards = 0: the whole search; Shard is then ignored.
+	Shard, Shards int
 }
 
 // SearchStatus says how a search ended.
@@ -68,6 +76,10 @@ const (
 	// SearchInterrupted: the context was cancelled; the result holds the
 	// lengths completed before.
 	SearchInterrupted
+	// SearchPartial: every length was searched, but only one shard of a
+	// split search (SearchSettings.Shards); completeness is judged when
+	// the shards are merged.
+	SearchPartial
 )
 
 func (s SearchStatus) String() string {
@@ -78,6 +90,8 @@ func (s SearchStatus) String() string {
 		return "fewer cycles than expected"
 	case SearchInterrupted:
 		return "interrupted"
+	case SearchPartial:
+		return "partial"
 	}
 	return fmt.Sprintf("SearchStatus(%d)", int(s))
 }
@@ -102,7 +116,8 @@ type LengthCount struct {
 	// not computed.
 	BoxBound float64
 	// Note is empty when the counts agree with the expectations, and says
-	// what is missing otherwise.
+	// what is missing otherwise; for one shard of a split search it is
+	// "partial (shard i of K)" and no check is made.
 	Note string
 }
 
@@ -150,6 +165,9 @@ var ErrSearch = errors.New("cycles: search failed")
 
 type searchConfig struct {
 	SearchSettings
+	// part selects the words or seeds of a shard; nil for the whole
+	// search.
+	part     *shardSelector
 	startLen int
 	// done is the last length completed.
 	done int
@@ -240,10 +258,16 @@ func (c *searchConfig) defaults(d int) {
 // Status SearchInterrupted and a nil error. Settings.Found sees every
 // completed length in order, so a caller can write a cycle file that an
 // interruption leaves consistent; Settings.Known resumes it.
+//
+// With Settings.Shards = K > 0 Search finds only the cycles of shard
+// Settings.Shard (1…K): see MergeShards for the split and the join.
 func Search(ctx context.Context, sys *dynsys.System, settings *SearchSettings) (SearchResult, error) {
 	cfg := searchConfig{}
 	if settings != nil {
 		cfg.SearchSettings = *settings
+	}
+	if err := checkShard(cfg.Shard, cfg.Shards); err != nil {
+		return SearchResult{}, err
 	}
 	cfg.defaults(sys.Dim())
 	var res SearchResult
@@ -263,16 +287,33 @@ func Search(ctx context.Context, sys *dynsys.System, settings *SearchSettings) (
 		return res, err
 	}
 	res.Counts = lengthCounts(res.Cycles, res.Grammar, bound, cfg.MaxLen)
-	if res.Status != SearchInterrupted {
-		for _, c := range res.Counts {
-			if c.Note != "" && c.ExpectedPoints >= 0 && float64(c.PeriodicPoints) < c.ExpectedPoints {
-				res.Status = SearchShort
-			}
+	if cfg.Shards > 0 {
+		partial := fmt.Sprintf("partial (shard %d of %d)", cfg.Shard, cfg.Shards)
+		for i := range res.Counts {
+			res.Counts[i].Note = partial
 		}
-	} else {
+		if res.Status != SearchInterrupted {
+			res.Status = SearchPartial
+		}
+	}
+	switch res.Status {
+	case SearchInterrupted:
 		res.Counts = res.Counts[:cfg.done]
+	case SearchComplete:
+		res.Status = judge(res.Counts)
 	}
 	return res, nil
+}
+
+// judge returns SearchShort when at some length fewer periodic points were
+// found than the grammar predicts, SearchComplete otherwise.
+func judge(counts []LengthCount) SearchStatus {
+	for _, c := range counts {
+		if c.Note != "" && c.ExpectedPoints >= 0 && float64(c.PeriodicPoints) < c.ExpectedPoints {
+			return SearchShort
+		}
+	}
+	return SearchComplete
 }
 
 // lengthCounts tabulates the cycles found per length with the expected

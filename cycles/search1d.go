@@ -266,12 +266,15 @@ func search1D(ctx context.Context, sys *dynsys.System, cfg *searchConfig, res *S
 		return err
 	}
 	res.Symbols, res.Grammar = m, g
+	if cfg.Shards > 0 {
+		cfg.part = newShardSelector(cfg.Shard, cfg.Shards, m)
+	}
 	res.Cycles = append(res.Cycles, cfg.Known...)
 	for n := cfg.startLen; n <= cfg.MaxLen; n++ {
 		count, _ := LyndonCount(m, n)
 		words := make([][]byte, 0, min(count, 1<<22))
 		for w := range LyndonWords(m, n) {
-			if len(w) == n && g.Admissible(w) {
+			if len(w) == n && g.Admissible(w) && cfg.part.holdsWord(w) {
 				words = append(words, slices.Clone(w))
 			}
 		}

@@ -540,41 +540,34 @@ func searchND(ctx context.Context, sys *dynsys.System, cfg *searchConfig, res *S
 	for i := range d {
 		s.scale = math.Max(s.scale, sys.Hi[i]-sys.Lo[i])
 	}
-	seedGraph := newBoxGraph(sys, cfg.SeedCells, 0, nil)
+	seedGraph, baseSeeds := ndBaseSeeds(sys, cfg)
 	res.Stats.SeedCells = len(seedGraph.core)
-	var baseSeeds []float64
-	x := make([]float64, d)
-	for _, c := range seedGraph.core {
-		seedGraph.center(x, c)
-		baseSeeds = append(baseSeeds, x...)
-	}
-	grid := cfg.GridSeeds
-	total := 1
-	for range d {
-		total *= grid
-	}
-	for p := range total {
-		q := p
-		for i := range d {
-			k := q % grid
-			q /= grid
-			x[i] = sys.Lo[i] + (float64(k)+0.5)/float64(grid)*(sys.Hi[i]-sys.Lo[i])
-		}
-		baseSeeds = append(baseSeeds, x...)
-	}
 	var walker *symbolWalks
 	if sys.HasSymbols() {
-		m := 2
-		for i := 0; i < len(baseSeeds); i += d {
-			m = max(m, sys.Symbol(baseSeeds[i:i+d])+1)
-		}
-		m = min(m, MaxSymbols)
-		g, err := NewGrammar(m, sys.Forbidden)
+		m, g, err := ndAlphabet(sys, baseSeeds)
 		if err != nil {
 			return err
 		}
 		res.Symbols, res.Grammar = m, g
 		walker = newSymbolWalks(seedGraph, sys)
+		if cfg.Shards > 0 {
+			cfg.part = newShardSelector(cfg.Shard, cfg.Shards, m)
+		}
+	} else if cfg.Shards > 0 {
+		cfg.part = newShardSelector(cfg.Shard, cfg.Shards, 0)
+	}
+	if cfg.part != nil {
+		// A shard keeps every K-th base seed; the seeds from the orbits
+		// of the previous lengths are its own finds, all of them (see
+		// MergeShards for why the union of the shards then equals the
+		// whole search).
+		var kept []float64
+		for i := range len(baseSeeds) / d {
+			if cfg.part.holdsSeed(i) {
+				kept = append(kept, baseSeeds[i*d:(i+1)*d]...)
+			}
+		}
+		baseSeeds = kept
 	}
 
 	// The orbits of each length, regenerated from the cycles' points by
@@ -591,7 +584,7 @@ func searchND(ctx context.Context, sys *dynsys.System, cfg *searchConfig, res *S
 	for n := cfg.startLen; n <= cfg.MaxLen; n++ {
 		var wordSeeds []orbitND
 		if walker != nil {
-			wordSeeds = symbolSeeds(ctx, s, walker, res.Grammar, n, cfg.Workers)
+			wordSeeds = symbolSeeds(ctx, s, walker, res.Grammar, n, cfg.Workers, cfg.part)
 		}
 		seeds := slices.Clone(baseSeeds)
 		for k := max(1, n-seedLengths); k < n; k++ {
@@ -673,6 +666,49 @@ func searchND(ctx context.Context, sys *dynsys.System, cfg *searchConfig, res *S
 		}
 	}
 	return nil
+}
+
+// ndBaseSeeds returns the seed partition's graph and the base seeds of a
+// map with d ≥ 2: the centers of its recurrent cells, then a coarse grid
+// of GridSeeds points per axis (n×d, concatenated).
+func ndBaseSeeds(sys *dynsys.System, cfg *searchConfig) (*boxGraph, []float64) {
+	d := sys.Dim()
+	seedGraph := newBoxGraph(sys, cfg.SeedCells, 0, nil)
+	var baseSeeds []float64
+	x := make([]float64, d)
+	for _, c := range seedGraph.core {
+		seedGraph.center(x, c)
+		baseSeeds = append(baseSeeds, x...)
+	}
+	grid := cfg.GridSeeds
+	total := 1
+	for range d {
+		total *= grid
+	}
+	for p := range total {
+		q := p
+		for i := range d {
+			k := q % grid
+			q /= grid
+			x[i] = sys.Lo[i] + (float64(k)+0.5)/float64(grid)*(sys.Hi[i]-sys.Lo[i])
+		}
+		baseSeeds = append(baseSeeds, x...)
+	}
+	return seedGraph, baseSeeds
+}
+
+// ndAlphabet returns the alphabet size of a map with d ≥ 2 and a symbols
+// formula, one more than the largest region index met at the base seeds
+// (at least 2), and the system's grammar over it.
+func ndAlphabet(sys *dynsys.System, baseSeeds []float64) (int, *Grammar, error) {
+	d := sys.Dim()
+	m := 2
+	for i := 0; i < len(baseSeeds); i += d {
+		m = max(m, sys.Symbol(baseSeeds[i:i+d])+1)
+	}
+	m = min(m, MaxSymbols)
+	g, err := NewGrammar(m, sys.Forbidden)
+	return m, g, err
 }
 
 func insideAll(sys *dynsys.System, points []float64, n int) bool {
@@ -770,11 +806,11 @@ func (w *symbolWalks) walks(word []byte, limit, budget int) [][]float64 {
 
 // symbolSeeds polishes, for every admissible Lyndon word of length n, the
 // pseudo-orbits of its closed walks until one converges; the orbits come
-// back in word order.
-func symbolSeeds(ctx context.Context, s *ndSearch, walker *symbolWalks, g *Grammar, n, workers int) []orbitND {
+// back in word order. A shard (part not nil) polishes only its own words.
+func symbolSeeds(ctx context.Context, s *ndSearch, walker *symbolWalks, g *Grammar, n, workers int, part *shardSelector) []orbitND {
 	var words [][]byte
 	for w := range LyndonWords(g.Symbols, n) {
-		if len(w) == n && g.Admissible(w) {
+		if len(w) == n && g.Admissible(w) && part.holdsWord(w) {
 			words = append(words, slices.Clone(w))
 		}
 	}

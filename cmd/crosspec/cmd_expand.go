@@ -142,10 +142,17 @@ func obtainCycles(ctx context.Context, e *env, s *dynsys.System, opts expandOpti
 			return nil, info, usagef("cannot read %s: %v", opts.cycleFile, unwrapPath(err))
 		}
 		defer f.Close()
-		read, err := cycles.ReadCycles(f, opts.cycleFile, s.Dim())
+		file, err := cycles.ReadCycleFile(f, opts.cycleFile, s.Dim())
 		if err != nil {
 			return nil, info, err
 		}
+		if h := file.Shard; h != nil {
+			// One part of a split search: an expansion from it would be
+			// silently incomplete.
+			return nil, info, usagef("%s holds shard %d of %d of a split search, not all the cycles; join the shards first (crosspec cycles %s --merge …)",
+				opts.cycleFile, h.Shard, h.Shards, s.Name)
+		}
+		read := file.Cycles
 		res, err := cycles.Verify(s, read, &cycles.VerifySettings{File: opts.cycleFile})
 		if err != nil {
 			return nil, info, &numericalError{err}
