@@ -1,6 +1,7 @@
 package cycles
 
 import (
+	"context"
 	"errors"
 	"math"
 	"math/cmplx"
@@ -417,5 +418,35 @@ func TestErrors(t *testing.T) {
 	}
 	if _, err := e.Quantity("entropy"); err == nil {
 		t.Errorf("unknown quantity accepted")
+	}
+}
+
+// TestStallCheckTwoDimensional: for maps with d ≥ 2 the coefficient check
+// asks only for a decreasing envelope (see Diagnostics). The horseshoe
+// x' = 10 − x² − y, y' = x has a complete two-symbol set of cycles (the
+// search's counts equal the necklace numbers, checked in the search
+// tests; R. L. Devaney and Z. Nitecki, Commun. Math. Phys. 67 (1979)
+// 137–146, from memory), whose coefficients fall from 1.7e-4 at length 4
+// to below 1e-15 at 12 with fluctuations: not flagged. The Hénon map
+// (1.4, 0.3) is not hyperbolic and its coefficients do not decay (common
+// practice, no source): flagged.
+func TestStallCheckTwoDimensional(t *testing.T) {
+	for _, c := range []struct {
+		name    string
+		maxLen  int
+		flagged bool
+	}{{"horseshoe", 12, false}, {"henon", 12, true}} {
+		sys, err := dynsys.Lookup(c.name, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		res, err := Search(context.Background(), sys, &SearchSettings{MaxLen: c.maxLen})
+		if err != nil {
+			t.Fatal(err)
+		}
+		e := mustExpand(t, res.Cycles, &Settings{MaxLen: c.maxLen})
+		if d := e.Diagnostics(); d.Stalled != c.flagged || !d.Checked {
+			t.Errorf("%s: diagnostics %+v, want stalled = %v (coefficients %.2g)", c.name, d, c.flagged, e.Coefficients())
+		}
 	}
 }

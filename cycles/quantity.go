@@ -262,7 +262,7 @@ func (e *Expansion) dimension() (QuantityResult, error) {
 			check = SpectralDeterminant
 		}
 		evaluate(check, 1-res.Beta, e.maxLen)
-		res.Diagnostics = diagnose(coef, floor, check != DynamicalZeta)
+		res.Diagnostics = diagnose(coef, floor, check != DynamicalZeta, e.dim)
 	}
 	res.Estimate = res.estimateFromOrders()
 	return res, nil
