@@ -99,4 +99,22 @@
 // the two-lane loops of gonum's floats, which were limited by arithmetic,
 // not by memory. Results are the same bytes whatever GOMAXPROCS is (and
 // whichever kernel runs), provided the Operator is itself deterministic.
+//
+// # Alternatives measured and not kept
+//
+// For several eigenvalues of 10⁶-cell Ulam matrices the two sweeps per step
+// are bound by memory bandwidth, so two ways of reading the basis fewer
+// times per new vector were built, tested against mat.Eigen and measured
+// (2026-12-02, k = 6 on the logistic-repeller matrix, single-vector path
+// 4.5–5.2 s, 179–216 mat-vecs):
+//   - s-step expansion (s mat-vecs in a Newton basis of Ritz shifts, the
+//     block orthogonalised at once, H recovered as (R B − [H R_a; 0]) T⁻¹):
+//     the block sweeps cost 5× less per vector at s = 8, but the round-off
+//     carried into H through H R_a forced short blocks and more mat-vecs
+//     (276); no time gained.
+//   - block Krylov–Schur (block size b = 2…4, block Gram–Schmidt twice
+//     with Cholesky QR): a block space of dimension m reaches polynomial
+//     degree m/b only, and with the crowded moduli of Ulam spectra the
+//     degree is what counts: 1.8–7.9× the mat-vecs (533 at b = 2), 2.4×
+//     the time at best.
 package krylov
