@@ -193,10 +193,7 @@ func (res *Result) leading(m *Matrix, sv SolveSettings) error {
 }
 
 func (res *Result) addStats(s krylov.Stats, status krylov.Status) {
-	res.Stats.Restarts += s.Restarts
-	res.Stats.MatVecs += s.MatVecs
-	res.Stats.Reorthogonalizations += s.Reorthogonalizations
-	res.Stats.Breakdowns += s.Breakdowns
+	res.Stats.Add(s)
 	if status != krylov.Converged {
 		res.Status = status
 	}

@@ -497,10 +497,7 @@ func clenshawCurtis(n int, lo, hi float64) []float64 {
 }
 
 func (res *Result) addStats(s krylov.Stats, status krylov.Status) {
-	res.Stats.Restarts += s.Restarts
-	res.Stats.MatVecs += s.MatVecs
-	res.Stats.Reorthogonalizations += s.Reorthogonalizations
-	res.Stats.Breakdowns += s.Breakdowns
+	res.Stats.Add(s)
 	if status != krylov.Converged {
 		res.Status = status
 	}

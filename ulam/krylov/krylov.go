@@ -149,6 +149,17 @@ type Stats struct {
 	Subspace int
 }
 
+// Add adds the work of o to s: the counts are summed, the subspace size
+// is the larger one.
+func (s *Stats) Add(o Stats) {
+	s.Restarts += o.Restarts
+	s.MatVecs += o.MatVecs
+	s.Reorthogonalizations += o.Reorthogonalizations
+	s.Breakdowns += o.Breakdowns
+	s.PowerSteps += o.PowerSteps
+	s.Subspace = max(s.Subspace, o.Subspace)
+}
+
 // Result is the outcome of Eigs.
 type Result struct {
 	// Values holds the eigenvalues of largest modulus, sorted by

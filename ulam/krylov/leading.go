@@ -85,10 +85,8 @@ func Leading(op, opT Operator, s *Settings) (LeadingPair, error) {
 		LeftResidual:  left.Residuals[0],
 	}
 	pair.Stats = right.Stats
-	pair.Stats.Restarts += left.Stats.Restarts
-	pair.Stats.MatVecs += left.Stats.MatVecs + 1
-	pair.Stats.Reorthogonalizations += left.Stats.Reorthogonalizations
-	pair.Stats.Breakdowns += left.Stats.Breakdowns
+	pair.Stats.Add(left.Stats)
+	pair.Stats.MatVecs++ // A v for the two-sided Rayleigh quotient below
 
 	// u and v have unit norm, so 1/|⟨u, v⟩| is the condition number.
 	tol := set.Tol
