@@ -267,6 +267,48 @@ func (s *System) snap(y, x float64) float64 {
 	return y
 }
 
+// ClipLap returns the part [xa, xb] of lap l whose image lies in [lo, hi]
+// (usually the domain), with the images ya = f(xa), yb = f(xb); ok is
+// false when the image meets [lo, hi] in at most a point or a preimage of
+// lo or hi cannot be found.
+func (s *System) ClipLap(l Lap, lo, hi float64) (xa, ya, xb, yb float64, ok bool) {
+	if l.ImageHi() <= lo || l.ImageLo() >= hi {
+		return 0, 0, 0, 0, false
+	}
+	xa, ya, xb, yb = l.Lo, l.FLo, l.Hi, l.FHi
+	// The end whose image leaves the domain is moved to the preimage of
+	// the domain's edge.
+	clip := func(y float64) (float64, bool) { return s.Preimage(l, y) }
+	if l.Increasing {
+		if l.FLo < lo {
+			if xa, ok = clip(lo); !ok {
+				return 0, 0, 0, 0, false
+			}
+			ya = lo
+		}
+		if l.FHi > hi {
+			if xb, ok = clip(hi); !ok {
+				return 0, 0, 0, 0, false
+			}
+			yb = hi
+		}
+	} else {
+		if l.FLo > hi {
+			if xa, ok = clip(hi); !ok {
+				return 0, 0, 0, 0, false
+			}
+			ya = hi
+		}
+		if l.FHi < lo {
+			if xb, ok = clip(lo); !ok {
+				return 0, 0, 0, 0, false
+			}
+			yb = lo
+		}
+	}
+	return xa, ya, xb, yb, xb > xa
+}
+
 // Preimage returns the x in the lap with f(x) = y, found to full precision
 // by Brent's method; ok is false when y is outside the lap's image.
 func (s *System) Preimage(l Lap, y float64) (x float64, ok bool) {

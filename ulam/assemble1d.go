@@ -94,7 +94,7 @@ func assemble1D(sys *dynsys.System, g Grid, wt weight, set *Settings) (*Matrix, 
 			continue
 		}
 		// A wide lap: clip it to the part whose image lies in the domain.
-		xa, ya, xb, yb, ok := clipToDomain(sys, l, lo, hi)
+		xa, ya, xb, yb, ok := sys.ClipLap(l, lo, hi)
 		if !ok {
 			continue
 		}
@@ -278,49 +278,6 @@ func rescaleExcluded(m *Matrix, excluded []dynsys.Interval) {
 			}
 		}
 	}
-}
-
-// clipToDomain returns the part [xa, xb] of the lap whose image lies in
-// [lo, hi], with ya = f(xa) and yb = f(xb); ok is false when the image
-// meets the domain in at most a point.
-func clipToDomain(sys *dynsys.System, l dynsys.Lap, lo, hi float64) (xa, ya, xb, yb float64, ok bool) {
-	if l.ImageHi() <= lo || l.ImageLo() >= hi {
-		return 0, 0, 0, 0, false
-	}
-	xa, ya, xb, yb = l.Lo, l.FLo, l.Hi, l.FHi
-	clip := func(y float64) (float64, bool) { return sys.Preimage(l, y) }
-	if l.Increasing {
-		if l.FLo < lo {
-			xa, ok = clip(lo)
-			ya = lo
-			if !ok {
-				return 0, 0, 0, 0, false
-			}
-		}
-		if l.FHi > hi {
-			xb, ok = clip(hi)
-			yb = hi
-			if !ok {
-				return 0, 0, 0, 0, false
-			}
-		}
-	} else {
-		if l.FLo > hi {
-			xa, ok = clip(hi)
-			ya = hi
-			if !ok {
-				return 0, 0, 0, 0, false
-			}
-		}
-		if l.FHi < lo {
-			xb, ok = clip(lo)
-			yb = lo
-			if !ok {
-				return 0, 0, 0, 0, false
-			}
-		}
-	}
-	return xa, ya, xb, yb, xb > xa
 }
 
 // assembler1D writes the entries of one block into its slot.

@@ -56,7 +56,7 @@ func TestGridPreimages(t *testing.T) {
 			g := NewGrid(s.Lo, s.Hi, []int{cells})
 			checked := 0
 			for _, l := range ls.Laps {
-				u0, f0, u1, f1, ok := clipToDomain(s, l, s.Lo[0], s.Hi[0])
+				u0, f0, u1, f1, ok := s.ClipLap(l, s.Lo[0], s.Hi[0])
 				if !ok {
 					continue
 				}
@@ -215,7 +215,7 @@ func breakpointMatrix(t *testing.T, s *dynsys.System, g Grid) map[[2]int]float64
 	h := g.Width(0)
 	out := map[[2]int]float64{}
 	for _, l := range ls.Laps {
-		xa, ya, xb, yb, ok := clipToDomain(s, l, lo, hi)
+		xa, ya, xb, yb, ok := s.ClipLap(l, lo, hi)
 		if !ok {
 			continue
 		}

@@ -344,7 +344,7 @@ func TestPreimagesFullPrecision(t *testing.T) {
 				// its start can have the residual of a sample 1 ulp away.
 				g := NewGrid([]float64{0}, []float64{1}, []int{2187})
 				var ok bool
-				if u0, f0, u1, f1, ok = clipToDomain(s, l, 0, 1); !ok {
+				if u0, f0, u1, f1, ok = s.ClipLap(l, 0, 1); !ok {
 					continue
 				}
 				ys = ys[:0]

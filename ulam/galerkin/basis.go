@@ -72,47 +72,6 @@ func (w *weight) at(x float64) (float64, float64) {
 	return math.Exp(w.beta * a), a
 }
 
-// clipLap returns the part [xa, xb] of lap l whose image lies in the
-// domain [lo, hi], with the images ya = f(xa), yb = f(xb); ok is false when
-// the image meets the domain in at most a point.
-func clipLap(sys *dynsys.System, l dynsys.Lap, lo, hi float64) (xa, ya, xb, yb float64, ok bool) {
-	if l.ImageHi() <= lo || l.ImageLo() >= hi {
-		return 0, 0, 0, 0, false
-	}
-	xa, ya, xb, yb = l.Lo, l.FLo, l.Hi, l.FHi
-	// The end whose image leaves the domain is moved to the preimage of
-	// the domain's edge.
-	clip := func(y float64) (float64, bool) { return sys.Preimage(l, y) }
-	if l.Increasing {
-		if l.FLo < lo {
-			if xa, ok = clip(lo); !ok {
-				return 0, 0, 0, 0, false
-			}
-			ya = lo
-		}
-		if l.FHi > hi {
-			if xb, ok = clip(hi); !ok {
-				return 0, 0, 0, 0, false
-			}
-			yb = hi
-		}
-	} else {
-		if l.FLo > hi {
-			if xa, ok = clip(hi); !ok {
-				return 0, 0, 0, 0, false
-			}
-			ya = hi
-		}
-		if l.FHi < lo {
-			if xb, ok = clip(lo); !ok {
-				return 0, 0, 0, 0, false
-			}
-			yb = lo
-		}
-	}
-	return xa, ya, xb, yb, xb > xa
-}
-
 // cellOf returns the index of the cell [edges[i], edges[i+1]] holding y,
 // clamped to the grid.
 func cellOf(edges []float64, y float64) int {

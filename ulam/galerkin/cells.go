@@ -234,23 +234,18 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 		for _, li := range r.laps {
 			inRun[li] = true
 		}
-		rule, err := newTailRule(r.nu0, 0, len(r.laps)-1, set.TailNodes, tailPower(set.Observable, set.Beta))
+		rule, shifts, covered, err := r.model(sys, ls, 0, set)
 		if err != nil {
-			return nil, fmt.Errorf("%w (%s at β = %g)", err, sys.Name, set.Beta)
+			return nil, err
 		}
-		tp := tailPart{cell: cell, weights: rule.weights, shifts: logShifts(set.Observable, r.nu0, rule)}
+		tp := tailPart{cell: cell, weights: rule.weights, shifts: shifts}
 		for _, rk := range rule.ranks {
 			tp.laps = append(tp.laps, r.laps[rk])
 		}
 		tails = append(tails, tp)
 		m.TailCheck = max(m.TailCheck, rule.check)
 		m.TailLaps += len(r.laps)
-		// The tail model covers the excluded end.
-		for _, e := range ls.Excluded {
-			if (atLo && e.Lo <= lo) || (!atLo && e.Hi >= hi) {
-				m.ExcludedLength -= e.Hi - e.Lo
-			}
-		}
+		m.ExcludedLength -= covered
 	}
 	m.ExcludedLength = max(m.ExcludedLength, 0)
 
@@ -264,7 +259,7 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 		if inRun[li] {
 			continue
 		}
-		xa, ya, xb, yb, ok := clipLap(sys, l, lo, hi)
+		xa, ya, xb, yb, ok := sys.ClipLap(l, lo, hi)
 		if !ok {
 			continue
 		}
@@ -305,7 +300,7 @@ func AssembleCells(sys *dynsys.System, settings *Settings) (*CellMatrix, error) 
 			}
 			for k, li := range tp.laps {
 				l := ls.Laps[li]
-				_, ya, _, yb, ok := clipLap(sys, l, lo, hi)
+				_, ya, _, yb, ok := sys.ClipLap(l, lo, hi)
 				if !ok {
 					continue
 				}

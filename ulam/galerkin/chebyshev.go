@@ -147,7 +147,7 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 	// addLap adds scale times lap l's contributions to every row whose
 	// point lies in the lap's image.
 	addLap := func(l dynsys.Lap, scale, shift float64) error {
-		_, ya, _, yb, ok := clipLap(sys, l, lo, hi)
+		_, ya, _, yb, ok := sys.ClipLap(l, lo, hi)
 		if !ok {
 			return nil
 		}
@@ -192,11 +192,10 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 		for _, li := range r.laps[first:] {
 			inRun[li] = true
 		}
-		rule, err := newTailRule(r.nu0, first, len(r.laps)-1, set.TailNodes, tailPower(set.Observable, set.Beta))
+		rule, shifts, covered, err := r.model(sys, ls, first, set)
 		if err != nil {
-			return nil, fmt.Errorf("%w (%s at β = %g)", err, sys.Name, set.Beta)
+			return nil, err
 		}
-		shifts := logShifts(set.Observable, r.nu0, rule)
 		for k, rk := range rule.ranks {
 			if err := addLap(ls.Laps[r.laps[rk]], rule.weights[k], shifts[k]); err != nil {
 				return nil, err
@@ -204,11 +203,7 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 		}
 		m.TailCheck = max(m.TailCheck, rule.check)
 		m.TailLaps += len(r.laps) - first
-		for _, e := range ls.Excluded {
-			if (atLo && e.Lo <= lo) || (!atLo && e.Hi >= hi) {
-				m.ExcludedLength -= e.Hi - e.Lo
-			}
-		}
+		m.ExcludedLength -= covered
 	}
 	m.ExcludedLength = max(m.ExcludedLength, 0)
 	for li, l := range ls.Laps {

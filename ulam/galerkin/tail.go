@@ -297,6 +297,24 @@ func tailRuleNodes(nu0 float64, first, last, nodes int, power float64) tailRule 
 	return r
 }
 
+// model returns the tail rule for the laps of rank ≥ first of run r and
+// the weight of the settings, the shifts of its derivative integrals
+// (logShifts), and the length of the domain's excluded end that the model
+// covers (to be taken off the excluded length).
+func (r *run) model(sys *dynsys.System, ls dynsys.LapSet, first int, set Settings) (rule tailRule, shifts []float64, covered float64, err error) {
+	rule, err = newTailRule(r.nu0, first, len(r.laps)-1, set.TailNodes, tailPower(set.Observable, set.Beta))
+	if err != nil {
+		return rule, nil, 0, fmt.Errorf("%w (%s at β = %g)", err, sys.Name, set.Beta)
+	}
+	lo, hi := sys.Lo[0], sys.Hi[0]
+	for _, e := range ls.Excluded {
+		if (r.atLo && e.Lo <= lo) || (!r.atLo && e.Hi >= hi) {
+			covered += e.Hi - e.Lo
+		}
+	}
+	return rule, logShifts(set.Observable, r.nu0, rule), covered, nil
+}
+
 // tailPower returns the exponent P of the lap contributions n^(−P) G(1/n)
 // for the weight exp(β a): 2 − 2β for a = ln |f'| (|f'| grows like n² on
 // the laps of a simple pole), 2 for an observable bounded there.
