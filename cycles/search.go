@@ -173,6 +173,17 @@ type searchConfig struct {
 	done int
 }
 
+// lengthDone records the prime cycles found at length n and hands them to
+// the Found callback.
+func (c *searchConfig) lengthDone(res *SearchResult, n int, found []Cycle) error {
+	res.Cycles = append(res.Cycles, found...)
+	c.done = n
+	if c.Found != nil {
+		return c.Found(n, found)
+	}
+	return nil
+}
+
 func (c *searchConfig) defaults(d int) {
 	if c.MaxLen <= 0 {
 		c.MaxLen = 10

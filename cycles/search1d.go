@@ -286,12 +286,8 @@ func search1D(ctx context.Context, sys *dynsys.System, cfg *searchConfig, res *S
 			res.Status = SearchInterrupted
 			return nil
 		}
-		res.Cycles = append(res.Cycles, found...)
-		cfg.done = n
-		if cfg.Found != nil {
-			if err := cfg.Found(n, found); err != nil {
-				return err
-			}
+		if err := cfg.lengthDone(res, n, found); err != nil {
+			return err
 		}
 	}
 	return nil

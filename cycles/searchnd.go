@@ -657,12 +657,8 @@ func searchND(ctx context.Context, sys *dynsys.System, cfg *searchConfig, res *S
 		for _, c := range found {
 			orbits[n] = append(orbits[n], forwardOrbit(sys, c.Point, n)...)
 		}
-		res.Cycles = append(res.Cycles, found...)
-		cfg.done = n
-		if cfg.Found != nil {
-			if err := cfg.Found(n, found); err != nil {
-				return err
-			}
+		if err := cfg.lengthDone(res, n, found); err != nil {
+			return err
 		}
 	}
 	return nil
