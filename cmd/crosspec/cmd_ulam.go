@@ -176,12 +176,8 @@ func writeGalerkinDensity(path string, s *dynsys.System, res galerkin.Result) er
 		x := s.Lo[0] + (float64(i)+0.5)/points*(s.Hi[0]-s.Lo[0])
 		fmt.Fprintf(w, "%s,%s\n", strconv.FormatFloat(x, 'g', -1, 64), strconv.FormatFloat(res.Density.At(x), 'g', -1, 64))
 	}
-	werr := w.Flush()
-	if cerr := f.Close(); werr == nil {
-		werr = cerr
-	}
-	if werr != nil {
-		return usagef("--density: %v", werr)
+	if err := flushClose(w, f); err != nil {
+		return usagef("--density: %v", err)
 	}
 	return nil
 }
@@ -348,12 +344,17 @@ func writeDensity(path string, res ulam.Result) error {
 		w.WriteString(strconv.FormatFloat(res.Density[i], 'g', -1, 64))
 		w.WriteByte('\n')
 	}
-	werr := w.Flush()
-	if cerr := f.Close(); werr == nil {
-		werr = cerr
-	}
-	if werr != nil {
-		return usagef("--density: %v", werr)
+	if err := flushClose(w, f); err != nil {
+		return usagef("--density: %v", err)
 	}
 	return nil
+}
+
+// flushClose flushes w and closes f, its file, and returns the first error.
+func flushClose(w *bufio.Writer, f *os.File) error {
+	err := w.Flush()
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	return err
 }
