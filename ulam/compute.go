@@ -148,7 +148,7 @@ func (res *Result) eigen(m *Matrix, sv SolveSettings) error {
 		return ErrEmpty
 	}
 	k := min(sv.Eigenvalues, m.Dim())
-	r, err := krylov.Eigs(m, sv.krylov(k))
+	r, err := krylov.EigsSparse(m, sv.krylov(k))
 	res.addStats(r.Stats, r.Status)
 	res.Eigenvalues, res.Residuals = r.Values, r.Residuals
 	if err != nil {

@@ -65,6 +65,10 @@ func (m *Matrix) CSR() *sparse.CSR {
 	return sparse.NewCSR(n, n, m.RowPtr, m.Col, m.Val)
 }
 
+// Entries returns the CSR arrays RowPtr, Col and Val (not copied). It
+// implements krylov.SparseMatrix.
+func (m *Matrix) Entries() (rowPtr, col []int, val []float64) { return m.RowPtr, m.Col, m.Val }
+
 // DerivativeCSR returns dP/dβ as a *sparse.CSR, or nil when the matrix
 // holds no derivative.
 func (m *Matrix) DerivativeCSR() *sparse.CSR {

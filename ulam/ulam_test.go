@@ -259,8 +259,10 @@ func TestHenonRestricted(t *testing.T) {
 // TestAgainstDense compares the leading eigenvalues of small Ulam matrices
 // with gonum's dense mat.Eigen (the reference library), after restriction
 // to the cells on cycles, which keeps every nonzero eigenvalue: so the
-// restricted and the full matrix must agree too. Tolerance 1e-10 relative:
-// the solver's 1e-12 residual times condition numbers below 100.
+// restricted and the full matrix must agree too, and the full matrix
+// solved by krylov.EigsSparse (which splits it into irreducible blocks,
+// as Compute does). Tolerance 1e-10 relative: the solver's 1e-12 residual
+// times condition numbers below 100.
 func TestAgainstDense(t *testing.T) {
 	for _, c := range []struct {
 		system string
@@ -288,9 +290,16 @@ func TestAgainstDense(t *testing.T) {
 		if err != nil {
 			t.Fatalf("%s: %v", c.system, err)
 		}
+		split, err := krylov.EigsSparse(mFull, &krylov.Settings{Wanted: c.k})
+		if err != nil {
+			t.Fatalf("%s, full matrix: %v", c.system, err)
+		}
 		for k := range c.k {
 			if cmplx.Abs(res.Values[k]-want[k]) > 1e-10*cmplx.Abs(want[0]) {
 				t.Errorf("%s: eigenvalue %d = %v, dense %v", c.system, k, res.Values[k], want[k])
+			}
+			if cmplx.Abs(split.Values[k]-want[k]) > 1e-10*cmplx.Abs(want[0]) {
+				t.Errorf("%s, full matrix split: eigenvalue %d = %v, dense %v", c.system, k, split.Values[k], want[k])
 			}
 		}
 	}

@@ -51,6 +51,10 @@ func (m *CellMatrix) Dim() int { return len(m.RowPtr) - 1 }
 // NNZ returns the number of stored entries.
 func (m *CellMatrix) NNZ() int { return len(m.Col) }
 
+// Entries returns the CSR arrays RowPtr, Col and Val (not copied). It
+// implements krylov.SparseMatrix.
+func (m *CellMatrix) Entries() (rowPtr, col []int, val []float64) { return m.RowPtr, m.Col, m.Val }
+
 // Apply sets dst = K x. It implements krylov.Operator.
 func (m *CellMatrix) Apply(dst, x []float64) { csrMulVec(dst, x, m.RowPtr, m.Col, m.Val) }
 

@@ -1,11 +1,9 @@
 package galerkin
 
 import (
-	"cmp"
 	"errors"
 	"fmt"
 	"math"
-	"math/cmplx"
 	"slices"
 
 	"crosspec/dynsys"
@@ -295,8 +293,8 @@ func (res *Result) setMatrix(m Operator) {
 // condition·ε rather than condition·Tol.
 const denseLimit = 1200
 
-func krylovSettings(sv ulam.SolveSettings, k, n int) *krylov.Settings {
-	return &krylov.Settings{Wanted: k, Tol: sv.Tol, SubspaceSize: sv.SubspaceSize, MaxRestarts: sv.MaxRestarts, Dense: n <= denseLimit}
+func krylovSettings(sv ulam.SolveSettings, k int) *krylov.Settings {
+	return &krylov.Settings{Wanted: k, Tol: sv.Tol, SubspaceSize: sv.SubspaceSize, MaxRestarts: sv.MaxRestarts, DenseSize: denseLimit}
 }
 
 func tailLaps(m Operator) int {
@@ -312,13 +310,14 @@ func tailLaps(m Operator) int {
 // eigen computes the leading eigenvalues of m into res.
 func (res *Result) eigen(m Operator, sv ulam.SolveSettings) error {
 	k := min(sv.Eigenvalues, m.Dim())
-	if cm, ok := m.(*CellMatrix); ok && m.Dim() > denseLimit {
-		order, start := krylov.IrreducibleBlocks(cm.RowPtr, cm.Col)
-		if len(start) > 2 {
-			return res.eigenBlocks(cm, order, start, k, sv)
-		}
+	var r krylov.Result
+	var err error
+	if cm, ok := m.(*CellMatrix); ok {
+		// Split into irreducible blocks: see the package documentation.
+		r, err = krylov.EigsSparse(cm, krylovSettings(sv, k))
+	} else {
+		r, err = krylov.Eigs(m, krylovSettings(sv, k))
 	}
-	r, err := krylov.Eigs(m, krylovSettings(sv, k, m.Dim()))
 	res.addStats(r.Stats, r.Status)
 	res.Eigenvalues, res.Residuals = r.Values, r.Residuals
 	if err != nil {
@@ -326,84 +325,6 @@ func (res *Result) eigen(m Operator, sv ulam.SolveSettings) error {
 	}
 	return nil
 }
-
-// eigenBlocks computes the k leading eigenvalues of a reducible matrix
-// from its irreducible diagonal blocks (krylov.IrreducibleBlocks): the
-// eigenvalues of a block triangular matrix are those of its diagonal
-// blocks, and each comes out with only its own block's conditioning (see
-// the package documentation). Each block gives its k leading ones, and
-// the k of largest modulus are kept, with their residuals within their
-// block.
-func (res *Result) eigenBlocks(m *CellMatrix, order, start []int, k int, sv ulam.SolveSettings) error {
-	type found struct {
-		value    complex128
-		residual float64
-	}
-	var all []found
-	pos := make([]int, m.Dim())
-	for i := range pos {
-		pos[i] = -1
-	}
-	for b := 0; b+1 < len(start); b++ {
-		rows := order[start[b]:start[b+1]]
-		for p, i := range rows {
-			pos[i] = p
-		}
-		blk := &blockMatrix{rowPtr: make([]int, 1, len(rows)+1)}
-		for _, i := range rows {
-			for e := m.RowPtr[i]; e < m.RowPtr[i+1]; e++ {
-				if p := pos[m.Col[e]]; p >= 0 {
-					blk.col = append(blk.col, p)
-					blk.val = append(blk.val, m.Val[e])
-				}
-			}
-			blk.rowPtr = append(blk.rowPtr, len(blk.col))
-		}
-		for _, i := range rows {
-			pos[i] = -1
-		}
-		kb := min(k, len(rows))
-		r, err := krylov.Eigs(blk, krylovSettings(sv, kb, len(rows)))
-		res.addStats(r.Stats, r.Status)
-		if err != nil {
-			return fmt.Errorf("galerkin: matrix of size %d, %d nonzeros, diagonal block %d of size %d: %w", m.Dim(), m.NNZ(), b, len(rows), err)
-		}
-		for i, v := range r.Values {
-			all = append(all, found{v, r.Residuals[i]})
-		}
-	}
-	// By decreasing modulus, a conjugate pair kept together (positive
-	// imaginary part first), as krylov.Eigs orders them.
-	slices.SortStableFunc(all, func(x, y found) int {
-		mx, my := cmplx.Abs(x.value), cmplx.Abs(y.value)
-		switch {
-		case mx > my:
-			return -1
-		case mx < my:
-			return 1
-		}
-		return cmp.Compare(imag(y.value), imag(x.value))
-	})
-	if len(all) > k && imag(all[k-1].value) > 0 {
-		k++ // keep the pair whole
-	}
-	all = all[:min(k, len(all))]
-	res.Eigenvalues, res.Residuals = nil, nil
-	for _, f := range all {
-		res.Eigenvalues = append(res.Eigenvalues, f.value)
-		res.Residuals = append(res.Residuals, f.residual)
-	}
-	return nil
-}
-
-// blockMatrix is a diagonal block of a CellMatrix, in CSR form.
-type blockMatrix struct {
-	rowPtr, col []int
-	val         []float64
-}
-
-func (b *blockMatrix) Dim() int               { return len(b.rowPtr) - 1 }
-func (b *blockMatrix) Apply(dst, x []float64) { csrMulVec(dst, x, b.rowPtr, b.col, b.val) }
 
 func transposeOf(m Operator) krylov.Operator {
 	switch m := m.(type) {
@@ -419,7 +340,7 @@ func transposeOf(m Operator) krylov.Operator {
 // and dλ_0/dβ into res.
 func (res *Result) leading(m Operator, sv ulam.SolveSettings, set Settings) error {
 	mt := transposeOf(m)
-	pair, err := krylov.Leading(m, mt, krylovSettings(sv, 1, m.Dim()))
+	pair, err := krylov.Leading(m, mt, krylovSettings(sv, 1))
 	res.addStats(pair.Stats, krylov.Converged)
 	if err != nil {
 		if errors.Is(err, krylov.ErrNotConverged) {

@@ -60,6 +60,22 @@
 // whose eigenvalues are those of the matrix, each with only its own
 // block's conditioning (reducibleEigen).
 //
+// # Reducible sparse matrices
+//
+// EigsSparse, for a matrix given by its entries (SparseMatrix), splits a
+// reducible matrix the same way before any Krylov iteration: Tarjan's
+// algorithm on the pattern (IrreducibleBlocks, linear in the nonzeros:
+// 36–41 ms for the 10⁶-row, 2.4·10⁶-nonzero logistic-repeller matrix),
+// then Eigs on every diagonal block of more than one row and the
+// diagonal entry of every other. A transfer matrix on a whole grid is
+// mostly transient cells: the unrestricted 10⁶-cell Ulam matrix of the
+// logistic repeller 6x(1 − x) has 998 803 blocks and only 1 198 rows in
+// blocks of more than one row, that of the Hénon map (1.4, 0.3) on a
+// 1024 × 1024 grid 12 009 of 1 048 576, so the Krylov basis, whose sweeps
+// bound the cost, shrinks by the same factor. The eigenvalues are
+// unchanged (those of the diagonal blocks), and each has only its own
+// block's conditioning.
+//
 // # The leading eigenvalue alone
 //
 // For Wanted = 1 with the default subspace, Eigs first makes power steps

@@ -76,8 +76,13 @@ type Settings struct {
 	// Dense asks for a dense eigen-decomposition (n applications of the
 	// operator, O(n³) time and O(n²) memory) instead of the Krylov
 	// iteration. Default false; Eigs switches to it by itself when
-	// Dim ≤ 2·SubspaceSize.
+	// Dim ≤ 2·SubspaceSize or Dim ≤ DenseSize.
 	Dense bool
+
+	// DenseSize is the dimension up to which the problem is solved
+	// densely, as with Dense. Default 0. EigsSparse applies it to each
+	// diagonal block.
+	DenseSize int
 }
 
 // DefaultSubspaceSize returns the default Settings.SubspaceSize for k
@@ -293,6 +298,8 @@ func validate(op Operator, s *Settings) (settings, error) {
 		return c, fmt.Errorf("krylov: negative restart limit %d", c.maxRestarts)
 	case c.norm < 0 || math.IsNaN(c.norm) || math.IsInf(c.norm, 0):
 		return c, fmt.Errorf("krylov: invalid operator norm %v", c.norm)
+	case in.DenseSize < 0:
+		return c, fmt.Errorf("krylov: negative dense size %d", in.DenseSize)
 	}
 	if c.start != nil && len(c.start) != n {
 		panic(fmt.Sprintf("krylov: start vector length %d, want %d", len(c.start), n))
@@ -303,7 +310,7 @@ func validate(op Operator, s *Settings) (settings, error) {
 	if c.m == 0 {
 		c.power = c.k == 1
 		c.m = DefaultSubspaceSize(c.k)
-	} else if c.m < c.k+3 && !c.dense && n > 2*c.m {
+	} else if c.m < c.k+3 && !c.dense && n > 2*c.m && n > in.DenseSize {
 		return c, fmt.Errorf("krylov: subspace size %d too small for %d wanted eigenvalues (need %d)", c.m, c.k, c.k+3)
 	}
 	switch {
@@ -323,7 +330,7 @@ func validate(op Operator, s *Settings) (settings, error) {
 	if c.maxRestarts == 0 {
 		c.maxRestarts = 1000
 	}
-	if n <= 2*c.m {
+	if n <= 2*c.m || n <= in.DenseSize {
 		c.dense = true
 	}
 	return c, nil

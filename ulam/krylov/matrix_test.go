@@ -312,3 +312,5 @@ func logisticRepellerUlam(n int, r float64) *csr {
 	}
 	return newCSR(n, es)
 }
+
+func (a *csr) Entries() (rowPtr, col []int, val []float64) { return a.rowPtr, a.col, a.val }

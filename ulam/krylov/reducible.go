@@ -27,67 +27,68 @@ import (
 // component it reaches, so the reversed emission order is the one wanted.
 func IrreducibleBlocks(rowPtr, col []int) (order, start []int) {
 	n := len(rowPtr) - 1
-	const unvisited = -1
-	index := make([]int, n)
-	low := make([]int, n)
-	onStack := make([]bool, n)
-	for i := range index {
-		index[i] = unvisited
+	if n > math.MaxInt32-1 {
+		panic("krylov: IrreducibleBlocks of more than 2³¹−2 indices")
 	}
-	var stack []int
-	type frame struct{ v, edge int }
-	var calls []frame
-	counter := 0
-	// Components in emission order: members[bounds[c]:bounds[c+1]].
-	members := make([]int, 0, n)
-	bounds := []int{0}
+	// index[v] is 0 for an unvisited vertex, its visiting number (from 1)
+	// while it is on the stack, and done once it belongs to an emitted
+	// component: done exceeds every number, so the low-link update
+	// low[v] = min(low[v], index[w]) ignores such w without a flag.
+	// 32-bit arrays, and a stack and call stack touched only as deep as
+	// they grow, keep the memory a 10⁶-vertex graph first touches (and
+	// pays page faults for) small.
+	const done = math.MaxInt32
+	index := make([]int32, n)
+	low := make([]int32, n)
+	stack := make([]int32, 0, n)
+	type frame struct{ v, edge int32 } // edge: offset within v's row
+	calls := make([]frame, 0, n)
+	var counter int32
+	// Components are written from the back of order, so that the reversed
+	// emission order comes out; ends records where each one starts.
+	order = make([]int, n)
+	pos := n
+	ends := make([]int, 0, n+1)
 	for root := range n {
-		if index[root] != unvisited {
+		if index[root] != 0 {
 			continue
 		}
-		calls = append(calls, frame{root, rowPtr[root]})
-		index[root], low[root] = counter, counter
 		counter++
-		stack = append(stack, root)
-		onStack[root] = true
+		index[root], low[root] = counter, counter
+		stack = append(stack, int32(root))
+		calls = append(calls, frame{int32(root), 0})
 		for len(calls) > 0 {
 			f := &calls[len(calls)-1]
-			v := f.v
+			v := int(f.v)
 			descended := false
-			for f.edge < rowPtr[v+1] {
-				w := col[f.edge]
+			for e := rowPtr[v] + int(f.edge); e < rowPtr[v+1]; e++ {
+				w := col[e]
 				f.edge++
-				if w == v {
-					continue
-				}
-				if index[w] == unvisited {
-					index[w], low[w] = counter, counter
+				if index[w] == 0 {
 					counter++
-					stack = append(stack, w)
-					onStack[w] = true
-					calls = append(calls, frame{w, rowPtr[w]})
+					index[w], low[w] = counter, counter
+					stack = append(stack, int32(w))
+					calls = append(calls, frame{int32(w), 0})
 					descended = true
 					break
 				}
-				if onStack[w] {
-					low[v] = min(low[v], index[w])
-				}
+				low[v] = min(low[v], index[w])
 			}
 			if descended {
 				continue
 			}
 			if low[v] == index[v] {
 				for {
-					w := stack[len(stack)-1]
+					w := int(stack[len(stack)-1])
 					stack = stack[:len(stack)-1]
-					onStack[w] = false
-					members = append(members, w)
+					index[w] = done
+					pos--
+					order[pos] = w
 					if w == v {
 						break
 					}
 				}
-				slices.Sort(members[bounds[len(bounds)-1]:])
-				bounds = append(bounds, len(members))
+				ends = append(ends, pos)
 			}
 			calls = calls[:len(calls)-1]
 			if len(calls) > 0 {
@@ -96,11 +97,11 @@ func IrreducibleBlocks(rowPtr, col []int) (order, start []int) {
 			}
 		}
 	}
-	order = make([]int, 0, n)
-	start = make([]int, 1, len(bounds))
-	for c := len(bounds) - 2; c >= 0; c-- {
-		order = append(order, members[bounds[c]:bounds[c+1]]...)
-		start = append(start, len(order))
+	// ends holds the component starts in decreasing order, the last 0.
+	slices.Reverse(ends)
+	start = append(ends, n)
+	for b := 0; b+1 < len(start); b++ {
+		slices.Sort(order[start[b]:start[b+1]])
 	}
 	return order, start
 }

@@ -1,9 +1,14 @@
 // Command eigsmtx reads a matrix in Matrix Market format and computes its
-// k eigenvalues of largest modulus with crosspec's Krylov–Schur solver,
-// printing one line: seconds (solve only), mat-vecs, status and the
-// eigenvalues. arpack_compare.sh runs it beside SciPy's ARPACK.
+// k eigenvalues of largest modulus with crosspec's solver
+// (krylov.EigsSparse: Krylov–Schur on each irreducible diagonal block),
+// printing one line: seconds (solve only, the split into blocks
+// included), mat-vecs, status and the eigenvalues. arpack_compare.sh runs
+// it beside SciPy's ARPACK. With -blocks instead of K it prints the
+// dimension, the number of irreducible blocks and the rows in blocks of
+// more than one row (the rows the Krylov iterations work on).
 //
 //	usage: eigsmtx FILE.mtx K [TOL [MAXRESTARTS]]
+//	       eigsmtx FILE.mtx -blocks
 package main
 
 import (
@@ -32,6 +37,17 @@ func main() {
 		fmt.Fprintln(os.Stderr, "eigsmtx:", err)
 		os.Exit(2)
 	}
+	if os.Args[2] == "-blocks" {
+		_, start := krylov.IrreducibleBlocks(m.RowPtr, m.Col)
+		rows := 0
+		for b := 0; b+1 < len(start); b++ {
+			if size := start[b+1] - start[b]; size > 1 {
+				rows += size
+			}
+		}
+		fmt.Println(m.Dim(), len(start)-1, rows)
+		return
+	}
 	k, err := strconv.Atoi(os.Args[2])
 	if err != nil || k < 1 {
 		fmt.Fprintln(os.Stderr, "eigsmtx: K must be a positive integer")
@@ -52,7 +68,7 @@ func main() {
 		}
 	}
 	start := time.Now()
-	res, err := krylov.Eigs(m, &krylov.Settings{Wanted: k, Tol: tol, MaxRestarts: maxRestarts})
+	res, err := krylov.EigsSparse(m, &krylov.Settings{Wanted: k, Tol: tol, MaxRestarts: maxRestarts})
 	elapsed := time.Since(start).Seconds()
 	status := "converged"
 	if err != nil {

@@ -1,0 +1,193 @@
+package krylov
+
+import (
+	"math"
+	"math/cmplx"
+	"math/rand/v2"
+	"slices"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+)
+
+// reducibleSparse returns an n×n matrix similar, by a random permutation,
+// to a block upper triangular one: diagonal blocks of the given sizes
+// with about perRow standard normal entries a row (irreducible: each
+// holds a cycle through all its rows), then one-row blocks for the
+// remaining rows, each with the diagonal entry diag[i] (0: none), and
+// coupling entries of size couple from each row to rows of later blocks
+// only. scale multiplies block b's entries by scale[b], so that the
+// leading eigenvalues come from different blocks.
+func reducibleSparse(n int, sizes []int, scales []float64, diag []float64, perRow int, couple float64, seed uint64) *csr {
+	rng := rand.New(rand.NewPCG(seed, 43))
+	perm := rng.Perm(n)
+	var es []entry
+	first := 0
+	var blockStart []int
+	for b, size := range sizes {
+		blockStart = append(blockStart, first)
+		for i := range size {
+			es = append(es, entry{perm[first+i], perm[first+(i+1)%size], scales[b] * (0.5 + rng.Float64())})
+			for range perRow - 1 {
+				es = append(es, entry{perm[first+i], perm[first+rng.IntN(size)], scales[b] * rng.NormFloat64()})
+			}
+		}
+		first += size
+	}
+	for i, d := range diag {
+		blockStart = append(blockStart, first+i)
+		if d != 0 {
+			es = append(es, entry{perm[first+i], perm[first+i], d})
+		}
+	}
+	blockStart = append(blockStart, n)
+	for b := 0; b+1 < len(blockStart); b++ {
+		for i := blockStart[b]; i < blockStart[b+1]; i++ {
+			if later := n - blockStart[b+1]; later > 0 && rng.Float64() < 0.5 {
+				es = append(es, entry{perm[i], perm[blockStart[b+1]+rng.IntN(later)], couple * rng.NormFloat64()})
+			}
+		}
+	}
+	return newCSR(n, es)
+}
+
+// TestEigsSparseAgainstDense compares EigsSparse on reducible matrices with
+// gonum's mat.Eigen on the whole matrix (the reference library of
+// REFERENCES.md for sparse nonsymmetric matrices of modest size), with
+// the tolerance of TestEigsAgainstDense: a residual ρ moves a simple
+// eigenvalue by about κ·ρ, and the check is made at 1e-10 relative only
+// where 10 κ (Tol + n ε)‖A‖ is below it.
+func TestEigsSparseAgainstDense(t *testing.T) {
+	const tol = 1e-13
+	singles := func(count int, values ...float64) []float64 {
+		d := make([]float64, count)
+		copy(d, values)
+		return d
+	}
+	cases := []struct {
+		name   string
+		a      *csr
+		k      int
+		blocks int // irreducible blocks expected
+	}{
+		// Blocks of 150 and 120 rows go through the Krylov iteration, the
+		// 60-row one densely (60 ≤ 2m); the leading values come from
+		// all three, the largest from a one-row block.
+		{"three blocks and singles k=6", reducibleSparse(400, []int{150, 120, 60}, []float64{0.3, 0.25, 0.2}, singles(70, 3.5, -0.2, 0.1), 4, 0.2, 1), 6, 73},
+		{"three blocks and singles k=10", reducibleSparse(400, []int{60, 150, 120}, []float64{0.2, 0.3, 0.25}, singles(70, 0, 1.4), 4, 0.2, 2), 10, 73},
+		// The leading value from one block, the others from another.
+		{"two blocks k=6", reducibleSparse(300, []int{200, 100}, []float64{1, 0.1}, nil, 5, 0.5, 3), 6, 2},
+		{"one block and transients k=1", reducibleSparse(400, []int{150}, []float64{1}, singles(250), 5, 1, 4), 1, 251},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			if _, start := IrreducibleBlocks(tc.a.rowPtr, tc.a.col); len(start)-1 != tc.blocks {
+				t.Fatalf("test matrix has %d irreducible blocks, want %d", len(start)-1, tc.blocks)
+			}
+			res, err := EigsSparse(tc.a, &Settings{Wanted: tc.k, Tol: tol})
+			if err != nil {
+				t.Fatalf("EigsSparse: %v (stats %+v)", err, res.Stats)
+			}
+			if res.Status != Converged {
+				t.Fatalf("status %v", res.Status)
+			}
+			if len(res.Values) < tc.k || len(res.Values) > tc.k+1 {
+				t.Fatalf("got %d values, want %d or %d", len(res.Values), tc.k, tc.k+1)
+			}
+			want, cond := denseSpectrum(t, tc.a.dense())
+			n := float64(tc.a.n)
+			used := make([]bool, len(want))
+			for i, got := range res.Values {
+				best := -1
+				for j := range min(len(want), len(res.Values)+2) {
+					if !used[j] && (best < 0 || cmplx.Abs(want[j]-got) < cmplx.Abs(want[best]-got)) {
+						best = j
+					}
+				}
+				used[best] = true
+				if best >= len(res.Values) && cmplx.Abs(want[best]) < cmplx.Abs(want[len(res.Values)-1]) {
+					t.Errorf("value %d = %v is not among the %d of largest modulus", i, got, len(res.Values))
+				}
+				scaleTol := 1e-10 * cmplx.Abs(want[best])
+				if bound := 10 * cond[best] * (tol + n*0x1p-52) * res.Norm; bound > scaleTol {
+					t.Fatalf("value %d: condition number %.3g too large for a 1e-10 check (bound %.3g)", i, cond[best], bound)
+				}
+				if !scalar.EqualWithinAbsOrRel(real(got), real(want[best]), scaleTol, 0) ||
+					!scalar.EqualWithinAbsOrRel(imag(got), imag(want[best]), scaleTol, 0) {
+					t.Errorf("value %d = %v, mat.Eigen gives %v (difference %.3g)", i, got, want[best], cmplx.Abs(got-want[best]))
+				}
+				if res.Residuals[i] > tol {
+					t.Errorf("value %d: residual %.3g above the tolerance", i, res.Residuals[i])
+				}
+			}
+			for i := 1; i < len(res.Values); i++ {
+				if cmplx.Abs(res.Values[i]) > cmplx.Abs(res.Values[i-1]) {
+					t.Errorf("values not sorted by modulus: %v", res.Values)
+				}
+				if imag(res.Values[i]) < 0 && res.Values[i] != cmplx.Conj(res.Values[i-1]) {
+					t.Errorf("value %d = %v does not follow its conjugate", i, res.Values[i])
+				}
+			}
+			t.Logf("%d values, stats %+v", len(res.Values), res.Stats)
+		})
+	}
+}
+
+// TestEigsSparseZeros: a 3×3 cycle among 200 transient rows. The nonzero
+// eigenvalues are the cube roots of the cycle's product p (the 3×3 block
+// is a weighted cyclic permutation), the others exact zeros (nilpotent
+// transient part), which a dense solve would blur to about ε^(1/j) for
+// Jordan chains of length j.
+func TestEigsSparseZeros(t *testing.T) {
+	es := []entry{{0, 1, 2}, {1, 2, 0.5}, {2, 0, 0.216}} // p = 0.216 = 0.6³
+	for i := 3; i < 203; i++ {
+		es = append(es, entry{i, i - 1, 1}) // a chain feeding the cycle
+	}
+	a := newCSR(203, es)
+	res, err := EigsSparse(a, &Settings{Wanted: 6})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The cube roots of 0.216: 0.6 and 0.6 e^{±2πi/3}, all of modulus 0.6.
+	want := []complex128{0.6, cmplx.Rect(0.6, 2*math.Pi/3), cmplx.Rect(0.6, -2*math.Pi/3), 0, 0, 0}
+	if len(res.Values) != len(want) {
+		t.Fatalf("values %v, want %v", res.Values, want)
+	}
+	for i, w := range want {
+		if cmplx.Abs(res.Values[i]-w) > 1e-14 {
+			t.Errorf("value %d = %v, want %v", i, res.Values[i], w)
+		}
+	}
+}
+
+// TestEigsSparseSameAsEigs: an irreducible matrix, and any matrix with
+// Settings.Vectors, are handed to Eigs unchanged: the same bytes.
+func TestEigsSparseSameAsEigs(t *testing.T) {
+	for _, tc := range []struct {
+		name string
+		a    *csr
+		set  Settings
+	}{
+		{"irreducible", stochastic(400, 3, 9), Settings{Wanted: 4}},
+		{"reducible with vectors", reducibleSparse(300, []int{200, 100}, []float64{1, 0.1}, nil, 5, 0.5, 3), Settings{Wanted: 4, Vectors: true}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			got, err := EigsSparse(tc.a, &tc.set)
+			if err != nil {
+				t.Fatal(err)
+			}
+			want, err := Eigs(tc.a, &tc.set)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !slices.Equal(got.Values, want.Values) || !slices.Equal(got.Residuals, want.Residuals) || got.Stats != want.Stats {
+				t.Errorf("EigsSparse %v %+v, Eigs %v %+v", got.Values, got.Stats, want.Values, want.Stats)
+			}
+			for i := range want.Vectors {
+				if !slices.Equal(got.Vectors[i], want.Vectors[i]) {
+					t.Errorf("vector %d differs", i)
+				}
+			}
+		})
+	}
+}
