@@ -121,3 +121,35 @@ func benchmarkSeveral(b *testing.B, k int, fixed []int) {
 		})
 	}
 }
+
+// BenchmarkEigsSparse1e6: 1, 6 and 10 leading eigenvalues (no vectors) of
+// the logistic matrix by EigsSparse, the split into irreducible blocks
+// included. The matrix is mostly transient cells (see the package
+// documentation), so this measures the split more than the iteration.
+func BenchmarkEigsSparse1e6(b *testing.B) {
+	a := logisticBench()
+	for _, k := range []int{1, 6, 10} {
+		b.Run("logistic/k="+strconv.Itoa(k), func(b *testing.B) {
+			var matVecs int
+			worst := 0.0
+			for b.Loop() {
+				res, err := EigsSparse(a, &Settings{Wanted: k})
+				if err != nil {
+					b.Fatal(err)
+				}
+				matVecs += res.Stats.MatVecs
+				for _, r := range res.Residuals {
+					worst = max(worst, r)
+				}
+				benchResult = res
+			}
+			b.ReportMetric(float64(matVecs)/float64(b.N), "matvecs/op")
+			b.ReportMetric(worst/1e-12, "residual/1e-12")
+		})
+	}
+	b.Run("tarjan", func(b *testing.B) {
+		for b.Loop() {
+			IrreducibleBlocks(a.rowPtr, a.col)
+		}
+	})
+}

@@ -5,18 +5,21 @@
 # logistic repeller A x(1-x), A = 6, and the Henon map (1.4, 0.3) on a
 # 1024x1024 grid with 16 test points a cell, both unrestricted (mostly
 # transient cells, which our solver splits off: see krylov.EigsSparse),
-# and the logistic map 4x(1-x) (closed; its matrix is irreducible, so it
-# shows the Krylov-Schur iteration alone).
+# the logistic map 4x(1-x) (closed; its matrix is irreducible, so it
+# shows the Krylov-Schur iteration alone), and the first two restricted
+# to the cells on cycles (--restrict cycles, the rows the split leaves),
+# where ARPACK too works on the reduced problem.
 # It prints how each matrix splits into irreducible blocks, then for
 # k = 1, 6, 10 leading eigenvalues at relative tolerance 1e-12 the solve
 # times (assembly and file reading excluded), mat-vec counts and the time
 # ratio ARPACK/ours, as Markdown tables.
 #
-# usage: [ARPACK_LIMIT=seconds] ulam/scripts/arpack_compare.sh [WORKDIR]
+# usage: [ARPACK_LIMIT=seconds] [MATRICES="logistic henon ..."] ulam/scripts/arpack_compare.sh [WORKDIR]
 set -euo pipefail
 cd "$(dirname "$0")/../.."
 work=${1:-$(mktemp -d)}
 limit=${ARPACK_LIMIT:-300}
+matrices=${MATRICES:-logistic henon logistic4 logistic-cycles henon-cycles}
 mkdir -p "$work"
 # The first Python that has SciPy: the one on PATH, else Debian's.
 py=""
@@ -29,20 +32,29 @@ if [ -z "$py" ]; then
 fi
 go build -o "$work/crosspec" ./cmd/crosspec
 go build -o "$work/eigsmtx" ./ulam/scripts/eigsmtx
-"$work/crosspec" ulam logistic-repeller --cells 1000000 --restrict none --quiet --export "$work/logistic.mtx" >/dev/null
-"$work/crosspec" ulam henon --grid 1024x1024 --points 16 --restrict none --quiet --export "$work/henon.mtx" >/dev/null
-"$work/crosspec" ulam logistic4 --cells 1000000 --restrict none --quiet --export "$work/logistic4.mtx" >/dev/null
+for m in $matrices; do
+  case $m in
+  logistic) args="logistic-repeller --cells 1000000 --restrict none" ;;
+  henon) args="henon --grid 1024x1024 --points 16 --restrict none" ;;
+  logistic4) args="logistic4 --cells 1000000 --restrict none" ;;
+  logistic-cycles) args="logistic-repeller --cells 1000000 --restrict cycles" ;;
+  henon-cycles) args="henon --grid 1024x1024 --points 16 --restrict cycles" ;;
+  *) echo "arpack_compare: unknown matrix $m" >&2; exit 2 ;;
+  esac
+  # shellcheck disable=SC2086
+  "$work/crosspec" ulam $args --quiet --export "$work/$m.mtx" >/dev/null
+done
 
 echo "| matrix | rows | irreducible blocks | rows in blocks of more than one row |"
 echo "|---|---|---|---|"
-for m in logistic henon logistic4; do
+for m in $matrices; do
   read -r rows blocks cyclic < <("$work/eigsmtx" "$work/$m.mtx" -blocks)
   echo "| $m | $rows | $blocks | $cyclic |"
 done
 echo
 echo "| matrix | k | ours s | ours mat-vecs | ARPACK ncv | ARPACK s | ARPACK mat-vecs | ARPACK status | time ratio ARPACK/ours |"
 echo "|---|---|---|---|---|---|---|---|---|"
-for m in logistic henon logistic4; do
+for m in $matrices; do
   for k in 1 6 10; do
     # Both solvers get a bounded effort: 300 restarts for ours, 1000
     # iterations and $limit seconds for ARPACK ("timeout" in the table).
