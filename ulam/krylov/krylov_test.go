@@ -107,34 +107,8 @@ func TestEigsAgainstDense(t *testing.T) {
 			if res.Status != Converged {
 				t.Fatalf("status %v", res.Status)
 			}
-			if len(res.Values) < tc.k || len(res.Values) > tc.k+1 {
-				t.Fatalf("got %d values, want %d or %d", len(res.Values), tc.k, tc.k+1)
-			}
-			want, cond := denseSpectrum(t, tc.a.dense())
-			n := float64(tc.a.n)
-			used := make([]bool, len(want))
-			for i, got := range res.Values {
-				// The nearest unused dense value among the leading ones:
-				// equal moduli may come in a different order.
-				best := -1
-				for j := range min(len(want), len(res.Values)+2) {
-					if !used[j] && (best < 0 || cmplx.Abs(want[j]-got) < cmplx.Abs(want[best]-got)) {
-						best = j
-					}
-				}
-				used[best] = true
-				if best >= len(res.Values) && cmplx.Abs(want[best]) < cmplx.Abs(want[len(res.Values)-1]) {
-					t.Errorf("value %d = %v is not among the %d of largest modulus", i, got, len(res.Values))
-				}
-				scaleTol := 1e-10 * cmplx.Abs(want[best])
-				bound := 10 * cond[best] * (tol + n*0x1p-52) * res.Norm
-				if bound > scaleTol {
-					t.Fatalf("value %d: condition number %.3g too large for a 1e-10 check (bound %.3g)", i, cond[best], bound)
-				}
-				if !scalar.EqualWithinAbsOrRel(real(got), real(want[best]), scaleTol, 0) ||
-					!scalar.EqualWithinAbsOrRel(imag(got), imag(want[best]), scaleTol, 0) {
-					t.Errorf("value %d = %v, mat.Eigen gives %v (difference %.3g)", i, got, want[best], cmplx.Abs(got-want[best]))
-				}
+			checkAgainstDense(t, tc.a, &res, tc.k, tol)
+			for i := range res.Values {
 				// The explicit residual of the returned vector: the
 				// accepted Ritz residual Tol·‖A‖ plus rounding of the
 				// basis, a few m·ε·‖A‖.
@@ -142,15 +116,54 @@ func TestEigsAgainstDense(t *testing.T) {
 					t.Errorf("value %d: ‖Ax − λx‖ = %.3g, want ≤ %.3g", i, r, (tol+1000*0x1p-52)*res.Norm)
 				}
 			}
-			for i := 1; i < len(res.Values); i++ {
-				if cmplx.Abs(res.Values[i]) > cmplx.Abs(res.Values[i-1]) {
-					t.Errorf("values not sorted by modulus: %v", res.Values)
-				}
-				if imag(res.Values[i]) < 0 && res.Values[i] != cmplx.Conj(res.Values[i-1]) {
-					t.Errorf("value %d = %v does not follow its conjugate", i, res.Values[i])
-				}
-			}
 			t.Logf("%d values, stats %+v, residuals %.2g", len(res.Values), res.Stats, res.Residuals)
 		})
+	}
+}
+
+// checkAgainstDense checks the k (or k+1, a pair kept whole) values of res
+// against gonum's mat.Eigen on a: each matches a dense value among the
+// leading ones to 1e-10 relative, where the first-order bound
+// 10 κ (tol + n ε)‖A‖ on the error (κ the condition number, tol the
+// residual tolerance, n ε the rounding of the dense QR algorithm) is below
+// it, and the values are sorted by modulus with each conjugate pair
+// together.
+func checkAgainstDense(t *testing.T, a *csr, res *Result, k int, tol float64) {
+	t.Helper()
+	if len(res.Values) < k || len(res.Values) > k+1 {
+		t.Fatalf("got %d values, want %d or %d", len(res.Values), k, k+1)
+	}
+	want, cond := denseSpectrum(t, a.dense())
+	n := float64(a.n)
+	used := make([]bool, len(want))
+	for i, got := range res.Values {
+		// The nearest unused dense value among the leading ones: equal
+		// moduli may come in a different order.
+		best := -1
+		for j := range min(len(want), len(res.Values)+2) {
+			if !used[j] && (best < 0 || cmplx.Abs(want[j]-got) < cmplx.Abs(want[best]-got)) {
+				best = j
+			}
+		}
+		used[best] = true
+		if best >= len(res.Values) && cmplx.Abs(want[best]) < cmplx.Abs(want[len(res.Values)-1]) {
+			t.Errorf("value %d = %v is not among the %d of largest modulus", i, got, len(res.Values))
+		}
+		scaleTol := 1e-10 * cmplx.Abs(want[best])
+		if bound := 10 * cond[best] * (tol + n*0x1p-52) * res.Norm; bound > scaleTol {
+			t.Fatalf("value %d: condition number %.3g too large for a 1e-10 check (bound %.3g)", i, cond[best], bound)
+		}
+		if !scalar.EqualWithinAbsOrRel(real(got), real(want[best]), scaleTol, 0) ||
+			!scalar.EqualWithinAbsOrRel(imag(got), imag(want[best]), scaleTol, 0) {
+			t.Errorf("value %d = %v, mat.Eigen gives %v (difference %.3g)", i, got, want[best], cmplx.Abs(got-want[best]))
+		}
+	}
+	for i := 1; i < len(res.Values); i++ {
+		if cmplx.Abs(res.Values[i]) > cmplx.Abs(res.Values[i-1]) {
+			t.Errorf("values not sorted by modulus: %v", res.Values)
+		}
+		if imag(res.Values[i]) < 0 && res.Values[i] != cmplx.Conj(res.Values[i-1]) {
+			t.Errorf("value %d = %v does not follow its conjugate", i, res.Values[i])
+		}
 	}
 }
