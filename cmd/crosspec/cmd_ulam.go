@@ -23,7 +23,9 @@ var ulamCommand = &command{
 	summary: "Ulam path alone: transfer matrices on grids of growing size and their leading spectrum",
 	details: `For each grid size the transfer matrix P_ij (the fraction of cell i that the
 map sends into cell j, weighted by exp(beta a)) is built, restricted to the
-cells that carry the dynamics, and its leading eigenvalues are computed.
+cells that carry the dynamics, and its leading eigenvalues are computed
+(from the irreducible diagonal blocks of the matrix, each solved alone: a
+matrix on a whole grid, --restrict none, is mostly transient cells).
 1D maps are assembled exactly from their monotone laps; maps of dimension
 d >= 2 from --points test points per cell.
 
