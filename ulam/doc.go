@@ -65,7 +65,12 @@
 // root s of λ_0 = 1 for the weight |f'|^(1−s) (the Jacobian is absorbed by
 // the change of variables), by Brent's method; decay rate −ln |λ_1/λ_0|.
 // The eigenvalues come from the Krylov–Schur solver of package
-// crosspec/ulam/krylov.
+// crosspec/ulam/krylov, through krylov.EigsSparse: a matrix that is still
+// reducible (RestrictNone, or several classes kept) is split into its
+// irreducible diagonal blocks and each solved alone, so an unrestricted
+// matrix costs little more than the restricted one. The leading left and
+// right eigenvectors (density, mean, Lyapunov exponent) come from
+// krylov.Leading on the whole matrix.
 //
 // Plain Ulam converges slowly: roughly like h log(1/h) for smooth densities,
 // like h^(1/2) where the density has inverse-square-root singularities (the
