@@ -124,12 +124,27 @@ func (m *Matrix) compactIndex() *compactCSR {
 		c.colSrc = &m.Col[0]
 	}
 	if len(m.Col) <= math.MaxInt32 {
+		// The mat-vec kernel reads without bounds checks: the arrays are
+		// checked here, once.
+		n := len(m.RowPtr) - 1
+		if n < 0 {
+			panic("ulam: matrix without row pointers")
+		}
+		if m.RowPtr[0] != 0 || m.RowPtr[n] != len(m.Col) {
+			panic(fmt.Sprintf("ulam: matrix row pointers %d … %d for %d nonzeros", m.RowPtr[0], m.RowPtr[n], len(m.Col)))
+		}
 		c.rowPtr = make([]int32, len(m.RowPtr))
 		for i, p := range m.RowPtr {
+			if i > 0 && p < m.RowPtr[i-1] {
+				panic(fmt.Sprintf("ulam: matrix row pointer %d decreases", i))
+			}
 			c.rowPtr[i] = int32(p)
 		}
 		c.col = make([]int32, len(m.Col))
 		for k, j := range m.Col {
+			if j < 0 || j >= n {
+				panic(fmt.Sprintf("ulam: matrix column index %d outside [0, %d)", j, n))
+			}
 			c.col[k] = int32(j)
 		}
 	}
@@ -145,7 +160,7 @@ func (c *compactCSR) matches(m *Matrix) bool {
 }
 
 // mulVec sets dst = A x, A the matrix of index c and values val. The rows
-// are cut into one contiguous block per core, balanced by nonzeros; each
+// are cut into pieces balanced by nonzeros and spread over the cores; each
 // row's sum is formed in the same order whatever the cut, so the result
 // does not depend on the number of cores.
 func (c *compactCSR) mulVec(dst, x []float64, val []float64) {
@@ -156,36 +171,57 @@ func (c *compactCSR) mulVec(dst, x []float64, val []float64) {
 	if c.rowPtr == nil {
 		panic("ulam: mat-vec of a matrix with more than 2³¹−1 nonzeros")
 	}
+	if len(val) != c.nnz {
+		panic(fmt.Sprintf("ulam: mat-vec with %d values for %d nonzeros", len(val), c.nnz))
+	}
 	// Below about 2¹⁶ nonzeros a second goroutine costs more than it saves.
-	parts := min(runtime.GOMAXPROCS(0), max(1, c.nnz>>16))
-	if parts == 1 {
+	workers := min(runtime.GOMAXPROCS(0), max(1, c.nnz>>16))
+	if workers == 1 {
 		mulRows(dst, x, c.rowPtr, c.col, val, 0, n)
 		return
 	}
-	var wg sync.WaitGroup
-	lo := 0
-	for p := range parts {
-		hi := n
-		if p < parts-1 {
-			// The first row whose start passes the p+1-th share of nonzeros.
-			share := int32((int64(c.nnz) * int64(p+1)) / int64(parts))
-			hi = lo + sort.Search(n-lo, func(i int) bool { return c.rowPtr[lo+i] >= share })
+	// The rows are cut into mulVecChunks pieces of equal nonzeros, taken
+	// in turn by the calling goroutine and workers−1 others: a helper
+	// that starts late (waking a parked thread can take as long as a
+	// piece) leaves its pieces to the others instead of holding up the
+	// end.
+	chunks := mulVecChunks * workers
+	var next atomic.Int32
+	run := func() {
+		for {
+			p := int(next.Add(1) - 1)
+			if p >= chunks {
+				return
+			}
+			mulRows(dst, x, c.rowPtr, c.col, val, c.chunkStart(p, chunks), c.chunkStart(p+1, chunks))
 		}
-		if p == parts-1 {
-			mulRows(dst, x, c.rowPtr, c.col, val, lo, hi)
-			break
-		}
-		wg.Add(1)
-		go func(lo, hi int) {
-			defer wg.Done()
-			mulRows(dst, x, c.rowPtr, c.col, val, lo, hi)
-		}(lo, hi)
-		lo = hi
 	}
+	var wg sync.WaitGroup
+	for range workers - 1 {
+		wg.Go(run)
+	}
+	run()
 	wg.Wait()
 }
 
-func mulRows(dst, x []float64, rowPtr, col []int32, val []float64, lo, hi int) {
+// mulVecChunks is the number of pieces per core of a parallel mat-vec.
+const mulVecChunks = 8
+
+// chunkStart returns the first row of piece p of chunks: the first row
+// whose entries start at or after the p-th share of the nonzeros (n for
+// p = chunks).
+func (c *compactCSR) chunkStart(p, chunks int) int {
+	if p >= chunks {
+		return c.rows
+	}
+	share := int32((int64(c.nnz) * int64(p)) / int64(chunks))
+	return sort.Search(c.rows, func(i int) bool { return c.rowPtr[i] >= share })
+}
+
+// mulRowsGo sets dst[i] = Σ_k val[k]·x[col[k]] for the rows i in
+// [lo, hi), each sum formed from 0 in entry order. mulRows runs it, or on
+// amd64 the same operations in assembly.
+func mulRowsGo(dst, x []float64, rowPtr, col []int32, val []float64, lo, hi int) {
 	if lo >= hi {
 		return
 	}
