@@ -4,16 +4,14 @@ import (
 	"bufio"
 	"fmt"
 	"io"
-	"math"
-	"runtime"
 	"slices"
-	"sort"
 	"strconv"
 	"strings"
-	"sync"
 	"sync/atomic"
 
 	"github.com/james-bowman/sparse"
+
+	"crosspec/ulam/krylov"
 )
 
 // Matrix is an Ulam transfer matrix in compressed sparse row form.
@@ -83,8 +81,9 @@ func (m *Matrix) DerivativeCSR() *sparse.CSR {
 // blocks of rows. It implements the krylov.Operator interface.
 //
 // The mat-vec is bound by memory traffic, so it runs over a compact copy
-// of the index arrays (int32 columns and row pointers: 12 bytes a nonzero
-// instead of 16), made at the first call and kept with the matrix; it is
+// of the index arrays (krylov.CSRIndex: int32 columns and row pointers, 12
+// bytes a nonzero instead of 16, checked once), made at the first call
+// and kept with the matrix; it is
 // remade when RowPtr or Col are replaced, but not when they are changed in
 // place, which must therefore happen before the first Apply.
 func (m *Matrix) Apply(dst, x []float64) { m.compactIndex().mulVec(dst, x, m.Val) }
@@ -98,55 +97,29 @@ func (m *Matrix) ApplyDerivative(dst, x []float64) {
 	m.compactIndex().mulVec(dst, x, m.Derivative)
 }
 
-// compactCSR is the index part of a CSR matrix in 32-bit integers, for the
-// mat-vec.
+// compactCSR is the index of the mat-vec (krylov.CSRIndex, 32-bit
+// integers), with what identifies the arrays it was made from.
 type compactCSR struct {
-	rowPtr []int32
-	col    []int32
-	// rowPtrSrc and colSrc identify the arrays it was made from.
+	index             *krylov.CSRIndex
 	rowPtrSrc, colSrc *int
 	rows, nnz         int
 }
 
-// compactIndex returns the compact index arrays of m, making them when m
-// has none or its RowPtr or Col arrays have been replaced since. Matrices
-// with more than 2³¹−1 nonzeros keep their int indices (rowPtr nil).
+// compactIndex returns the compact index of m, making it when m has none
+// or its RowPtr or Col arrays have been replaced since. It panics, through
+// krylov.NewCSRIndex, on a malformed pattern and on more than 2³¹−1
+// nonzeros.
 func (m *Matrix) compactIndex() *compactCSR {
 	c := m.compact.Load()
 	if c != nil && c.matches(m) {
 		return c
 	}
-	c = &compactCSR{rows: len(m.RowPtr) - 1, nnz: len(m.Col)}
+	c = &compactCSR{rows: len(m.RowPtr) - 1, nnz: len(m.Col), index: krylov.NewCSRIndex(m.RowPtr, m.Col)}
 	if len(m.RowPtr) > 0 {
 		c.rowPtrSrc = &m.RowPtr[0]
 	}
 	if len(m.Col) > 0 {
 		c.colSrc = &m.Col[0]
-	}
-	if len(m.Col) <= math.MaxInt32 {
-		// The mat-vec kernel reads without bounds checks: the arrays are
-		// checked here, once.
-		n := len(m.RowPtr) - 1
-		if n < 0 {
-			panic("ulam: matrix without row pointers")
-		}
-		if m.RowPtr[0] != 0 || m.RowPtr[n] != len(m.Col) {
-			panic(fmt.Sprintf("ulam: matrix row pointers %d … %d for %d nonzeros", m.RowPtr[0], m.RowPtr[n], len(m.Col)))
-		}
-		c.rowPtr = make([]int32, len(m.RowPtr))
-		for i, p := range m.RowPtr {
-			if i > 0 && p < m.RowPtr[i-1] {
-				panic(fmt.Sprintf("ulam: matrix row pointer %d decreases", i))
-			}
-			c.rowPtr[i] = int32(p)
-		}
-		c.col = make([]int32, len(m.Col))
-		for k, j := range m.Col {
-			if j < 0 || j >= n {
-				panic(fmt.Sprintf("ulam: matrix column index %d outside [0, %d)", j, n))
-			}
-			c.col[k] = int32(j)
-		}
 	}
 	m.compact.Store(c)
 	return c
@@ -159,90 +132,10 @@ func (c *compactCSR) matches(m *Matrix) bool {
 	return (len(m.RowPtr) == 0 || c.rowPtrSrc == &m.RowPtr[0]) && (len(m.Col) == 0 || c.colSrc == &m.Col[0])
 }
 
-// mulVec sets dst = A x, A the matrix of index c and values val. The rows
-// are cut into pieces balanced by nonzeros and spread over the cores; each
-// row's sum is formed in the same order whatever the cut, so the result
-// does not depend on the number of cores.
-func (c *compactCSR) mulVec(dst, x []float64, val []float64) {
-	n := c.rows
-	if len(dst) != n || len(x) != n {
-		panic(fmt.Sprintf("ulam: mat-vec with vectors of length %d and %d, want %d", len(dst), len(x), n))
-	}
-	if c.rowPtr == nil {
-		panic("ulam: mat-vec of a matrix with more than 2³¹−1 nonzeros")
-	}
-	if len(val) != c.nnz {
-		panic(fmt.Sprintf("ulam: mat-vec with %d values for %d nonzeros", len(val), c.nnz))
-	}
-	// Below about 2¹⁶ nonzeros a second goroutine costs more than it saves.
-	workers := min(runtime.GOMAXPROCS(0), max(1, c.nnz>>16))
-	if workers == 1 {
-		mulRows(dst, x, c.rowPtr, c.col, val, 0, n)
-		return
-	}
-	// The rows are cut into mulVecChunks pieces of equal nonzeros, taken
-	// in turn by the calling goroutine and workers−1 others: a helper
-	// that starts late (waking a parked thread can take as long as a
-	// piece) leaves its pieces to the others instead of holding up the
-	// end.
-	chunks := mulVecChunks * workers
-	var next atomic.Int32
-	run := func() {
-		for {
-			p := int(next.Add(1) - 1)
-			if p >= chunks {
-				return
-			}
-			mulRows(dst, x, c.rowPtr, c.col, val, c.chunkStart(p, chunks), c.chunkStart(p+1, chunks))
-		}
-	}
-	var wg sync.WaitGroup
-	for range workers - 1 {
-		wg.Go(run)
-	}
-	run()
-	wg.Wait()
-}
-
-// mulVecChunks is the number of pieces per core of a parallel mat-vec.
-const mulVecChunks = 8
-
-// chunkStart returns the first row of piece p of chunks: the first row
-// whose entries start at or after the p-th share of the nonzeros (n for
-// p = chunks).
-func (c *compactCSR) chunkStart(p, chunks int) int {
-	if p >= chunks {
-		return c.rows
-	}
-	share := int32((int64(c.nnz) * int64(p)) / int64(chunks))
-	return sort.Search(c.rows, func(i int) bool { return c.rowPtr[i] >= share })
-}
-
-// mulRowsGo sets dst[i] = Σ_k val[k]·x[col[k]] for the rows i in
-// [lo, hi), each sum formed from 0 in entry order. mulRows runs it, or on
-// amd64 the same operations in assembly.
-func mulRowsGo(dst, x []float64, rowPtr, col []int32, val []float64, lo, hi int) {
-	if lo >= hi {
-		return
-	}
-	dst = dst[lo:hi]
-	rowPtr = rowPtr[lo : hi+1]
-	// One slice of the row block's entries, walked by a running index:
-	// the rows are short (a few entries), so per-row slicing would cost
-	// more bounds checks than it saves.
-	first, last := int(rowPtr[0]), int(rowPtr[len(rowPtr)-1])
-	col, val = col[first:last], val[first:last]
-	val = val[:len(col)]
-	k := 0
-	for i := range dst {
-		end := int(rowPtr[i+1]) - first
-		var sum float64
-		for ; k < end && k < len(col); k++ {
-			sum += val[k] * x[col[k]]
-		}
-		dst[i] = sum
-	}
-}
+// mulVec sets dst = A x, A the matrix of index c and values val
+// (krylov.CSRIndex.MulVec: in parallel, the same bytes whatever the number
+// of cores).
+func (c *compactCSR) mulVec(dst, x []float64, val []float64) { c.index.MulVec(dst, x, val) }
 
 // Transpose returns Pᵀ as a new matrix (with the transposed derivative, if
 // any): its Apply is the transfer operator acting on cell masses.

@@ -116,6 +116,14 @@
 // not by memory. Results are the same bytes whatever GOMAXPROCS is (and
 // whichever kernel runs), provided the Operator is itself deterministic.
 //
+// CSRIndex is the sparse mat-vec of the Ulam matrices and of EigsSparse's
+// diagonal blocks: 32-bit indices checked once, rows in pieces of equal
+// nonzeros taken in turn by the cores, and on amd64 a row loop in
+// assembly that does the Go loop's operations in the same order. On the
+// 10⁶-cell logistic-repeller matrix it took 1.14–1.39 ms (median, 2
+// cores) where a plain C loop on the same arrays took 1.00 ms in the same
+// runs (ulam/scripts/matvec_compare.sh); the Go loop took 2.4 ms.
+//
 // # Alternatives measured and not kept
 //
 // For several eigenvalues of 10⁶-cell Ulam matrices the two sweeps per step

@@ -165,46 +165,29 @@ func principal(rowPtr, col []int, val []float64, rows []int, pos []int) *csrOper
 			}
 		}
 	}
-	op := &csrOperator{
-		rowPtr: make([]int32, 1, len(rows)+1),
-		col:    make([]int32, 0, nnz),
-		val:    make([]float64, 0, nnz),
-	}
+	bRowPtr := make([]int, 1, len(rows)+1)
+	bCol := make([]int, 0, nnz)
+	bVal := make([]float64, 0, nnz)
 	for _, i := range rows {
 		for e := rowPtr[i]; e < rowPtr[i+1]; e++ {
 			if p := pos[col[e]]; p >= 0 {
-				op.col = append(op.col, int32(p))
-				op.val = append(op.val, val[e])
+				bCol = append(bCol, p)
+				bVal = append(bVal, val[e])
 			}
 		}
-		op.rowPtr = append(op.rowPtr, int32(len(op.col)))
+		bRowPtr = append(bRowPtr, len(bCol))
 	}
 	for _, i := range rows {
 		pos[i] = -1
 	}
-	return op
+	return &csrOperator{index: NewCSRIndex(bRowPtr, bCol), val: bVal}
 }
 
-// csrOperator is a matrix in compressed sparse rows with 32-bit indices
-// (a diagonal block has fewer than 2³¹ nonzeros when the whole matrix
-// fits in memory), applied in parallel over the row blocks of the vector
-// kernels. Each row's sum is formed in entry order, so the result does
-// not depend on the number of cores.
+// csrOperator is a matrix given by a CSRIndex and its values.
 type csrOperator struct {
-	rowPtr, col []int32
-	val         []float64
+	index *CSRIndex
+	val   []float64
 }
 
-func (a *csrOperator) Dim() int { return len(a.rowPtr) - 1 }
-
-func (a *csrOperator) Apply(dst, x []float64) {
-	forBlocks(a.Dim(), func(_, _, lo, hi int) {
-		for i := lo; i < hi; i++ {
-			var sum float64
-			for e := a.rowPtr[i]; e < a.rowPtr[i+1]; e++ {
-				sum += a.val[e] * x[a.col[e]]
-			}
-			dst[i] = sum
-		}
-	})
-}
+func (a *csrOperator) Dim() int               { return a.index.Dim() }
+func (a *csrOperator) Apply(dst, x []float64) { a.index.MulVec(dst, x, a.val) }

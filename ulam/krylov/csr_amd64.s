@@ -5,7 +5,7 @@
 // For each row i in [lo, hi): dst[i] = Σ_k val[k]·x[col[k]] over
 // k in [rowPtr[i], rowPtr[i+1]), summed from 0 in entry order with one
 // rounded product and one rounded sum per entry (MULSD, ADDSD), exactly
-// as the Go loop mulRowsGo does. The caller guarantees the indices.
+// as the Go loop mulRowsGo (csr.go) does. The caller guarantees the indices.
 TEXT ·mulRowsAsm(SB), NOSPLIT, $0-56
 	MOVQ dst+0(FP), DI
 	MOVQ x+8(FP), SI
