@@ -103,7 +103,7 @@
 //
 // The basis is one contiguous array of n·(m+1) numbers, column after column.
 // The long-vector kernels (the Gram–Schmidt sweeps, the basis rotation
-// V_m Q at a restart, done in place) run over fixed blocks of 16384 rows
+// V_m Q at a restart, done in place) run over fixed blocks of 32768 rows
 // spread over the cores, and within a block over sub-blocks that keep the
 // vectors being written in cache; partial dot products are kept per block
 // and summed in block order. The inner kernels take four basis vectors and

@@ -15,12 +15,16 @@ import (
 // reduced in the same order: the results are the same bytes whatever
 // GOMAXPROCS is. The basis is stored column after column, so a block pass
 // over q basis vectors reads q separate streams of blockRows numbers each;
-// streams of 128 KiB keep the hardware prefetchers busy (measured on the
+// long streams keep the hardware prefetchers busy (measured on the
 // reference machine, 10 streams of 10⁶ numbers: 12 GB/s with 1024-row
-// blocks, 31 GB/s with 16384, 36 GB/s with 65536), while the vector being
-// orthogonalised, one block of it, stays in a core's L2 cache across the
-// pass.
-const blockRows = 16384
+// blocks, 31 GB/s with 16384, 36 GB/s with 65536), while the vectors being
+// orthogonalised stay in a core's L2 cache across the pass (see
+// subBlockRows). On the k = 6 solve of the 10⁶-cell logistic-repeller
+// matrix (BenchmarkEigs1e6Six, 2026-12-02, four runs each) the solver's
+// own time per step was 16.0–16.5 ms with 32768-row blocks and
+// 16384-row sub-blocks, 20 ms with 16384 and 4096, and no better with
+// 65536-row blocks.
+const blockRows = 32768
 
 // parallelRows is the vector length below which the kernels run on the
 // calling goroutine; below it the cost of starting goroutines is not repaid.
@@ -167,9 +171,9 @@ func (b *basis) subtract(w, h []float64, q int, scale float64) float64 {
 
 // subBlockRows is the number of rows of the sub-blocks of the fused
 // sweeps (projectPair, updatePair): the two vectors being worked on, 2 ×
-// 32 KiB of a sub-block, stay in a core's cache while the basis streams
-// past.
-const subBlockRows = 4096
+// 128 KiB of a sub-block, stay in a core's L2 cache while the basis
+// streams past.
+const subBlockRows = 16384
 
 // projectPair makes one sweep over the first q basis vectors, x and z,
 // setting s[l] = v_lᵀ x and g[l] = v_lᵀ z for l < q, and returns xᵀx,
