@@ -22,8 +22,9 @@ type Advice struct {
 const DefaultTolerance = 1e-8
 
 // Advise recommends a truncation length and a partition size for the
-// absolute tolerance tol, from the sequences analysed by Cycles and Ulam with
-// default settings.
+// absolute tolerance tol, from the sequences analysed by CyclesWithFloors
+// (cycleFloors may be nil) and Ulam with default settings; the lengths
+// past the round-off cut of CyclesWithFloors are not candidates.
 //
 // Cycle length: the estimated error of the truncation at length n is
 // |v_n − V| + E, with V ± E the extrapolated cycle value; the smallest
@@ -36,13 +37,17 @@ const DefaultTolerance = 1e-8
 // Cells: the raw Ulam error at the last partition, ε = max(|v_last − V|, E)
 // with V ± E the Ulam estimate, scaled as ε (N_last/N)^p with the observed
 // order p: N = N_last (ε/tol)^(1/p).
-func Advise(cells []int, ulamValues []float64, orders []int, cycleValues []float64, tol float64) Advice {
+func Advise(cells []int, ulamValues []float64, orders []int, cycleValues, cycleFloors []float64, tol float64) Advice {
 	if !(tol > 0) {
 		tol = DefaultTolerance
 	}
 	var a Advice
-	cyc := Cycles(orders, cycleValues, nil)
+	cyc := CyclesWithFloors(orders, cycleValues, cycleFloors, nil)
 	ul := Ulam(cells, ulamValues, nil)
+	if cycleFloors != nil {
+		end, _ := floorCut(cycleValues, cycleFloors)
+		orders, cycleValues = orders[:end], cycleValues[:end]
+	}
 
 	orders, cycleValues, _ = dropNonFinite(orders, cycleValues)
 	for i, v := range cycleValues {

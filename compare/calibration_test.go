@@ -104,12 +104,14 @@ func TestCalibration(t *testing.T) {
 				t.Fatalf("%s %s: expansion: %v", c.system, c.quantity, err)
 			}
 			var orders []int
-			var values []float64
+			var values, floors []float64
 			for _, o := range res.Orders {
 				orders = append(orders, o.MaxLen)
 				values = append(values, o.Value)
+				floors = append(floors, o.Floor)
 			}
-			est := compare.Cycles(orders, values, nil)
+			// With the expansion's round-off floors, as check does.
+			est := compare.CyclesWithFloors(orders, values, floors, nil)
 			cases = append(cases, compare.Case{Label: fmt.Sprintf("%s %s cycles (%s)", c.system, c.quantity, source), Truth: truth, Estimate: est})
 		}
 	}

@@ -91,7 +91,7 @@ func TestAdvise(t *testing.T) {
 	cells := doublingCells(1 << 20)
 	ulam := sample(cells, func(n float64) float64 { return limit + 0.7/n })
 	orders := lengths(12)
-	a := Advise(cells, ulam, orders, sample(orders, gauss), tol)
+	a := Advise(cells, ulam, orders, sample(orders, gauss), nil, tol)
 	if a.CycleLength != want {
 		t.Errorf("cycle length %d, want %d (%q)", a.CycleLength, want, a.Notes)
 	}
@@ -105,14 +105,14 @@ func TestAdvise(t *testing.T) {
 	// The predicted remaining tail after n, times TailFactor 3, must fall
 	// below tol: 3 × 1.0e-9 at n = 10 does, 3 × 4.6e-8 at 9 does not.
 	short := lengths(8)
-	a = Advise(cells, ulam, short, sample(short, gauss), tol)
+	a = Advise(cells, ulam, short, sample(short, gauss), nil, tol)
 	if a.CycleLength != want || !strings.Contains(strings.Join(a.Notes, " "), "prediction") {
 		t.Errorf("predicted cycle length %d, want %d (%q)", a.CycleLength, want, a.Notes)
 	}
 
 	// Order 2: N = sqrt(C/tol).
 	ulam2 := sample(cells, func(n float64) float64 { return limit + 3/(n*n) })
-	a = Advise(cells, ulam2, orders, sample(orders, gauss), 0)
+	a = Advise(cells, ulam2, orders, sample(orders, gauss), nil, 0)
 	if !scalar.EqualWithinAbsOrRel(a.CellsNeeded, math.Sqrt(3/DefaultTolerance), 0, 1e-3) {
 		t.Errorf("order 2: cells needed %.6g, want %.6g", a.CellsNeeded, math.Sqrt(3/DefaultTolerance))
 	}

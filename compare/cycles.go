@@ -18,6 +18,65 @@ func Cycles(orders []int, values []float64, s *Settings) Estimate {
 	return fastSequence(cycleWords, orders, values, s)
 }
 
+// CyclesWithFloors is Cycles for estimates whose round-off floors are
+// known: floors[i] is the change of values[i] that the rounding errors of
+// its computation can cause (as the cycle expansion reports for every
+// truncation). The rounding noise of a zero z of a truncated determinant
+// grows with the length like ε|z|^n, so for a zero far from the origin
+// (a subleading eigenvalue, the decay rate) the estimates converge to the
+// floor and then drift with the noise, which the model of Cycles would
+// read as a stall. So the sequence is cut after the first estimate whose
+// change from the previous one is within the floors of the two (the
+// later ones differ by noise alone), Cycles is applied to the rest, and
+// the error is at least the larger of those two floors; when that is what
+// limits it, the status is RoundOffFloor. floors may be nil (Cycles);
+// non-finite values and floors are skipped when looking for the cut. It
+// panics if the lengths differ.
+func CyclesWithFloors(orders []int, values, floors []float64, s *Settings) Estimate {
+	checkShape("CyclesWithFloors", "orders", orders, values)
+	if floors == nil {
+		return Cycles(orders, values, s)
+	}
+	if len(floors) != len(values) {
+		panic(fmt.Sprintf("compare: CyclesWithFloors: %d values but %d floors", len(values), len(floors)))
+	}
+	end, floor := floorCut(values, floors)
+	if end == len(values) {
+		return Cycles(orders, values, s)
+	}
+	est := Cycles(orders[:end], values[:end], s)
+	if floor >= est.Error && !est.Status.Stagnated() {
+		est.Status = RoundOffFloor
+	}
+	est.Error = math.Max(est.Error, floor)
+	est.Reason = fmt.Sprintf("cut after length %d, where the estimates agree within their round-off floors (%.2g); ", orders[end-1], floor) + est.Reason
+	return est
+}
+
+// floorCut returns the number of leading estimates to keep, up to the
+// first finite one whose change from the previous finite one is within the
+// floors of the two (len(values) when there is none), and the larger of
+// those two floors.
+func floorCut(values, floors []float64) (int, float64) {
+	finite := func(i int) bool {
+		return !math.IsNaN(values[i]) && !math.IsInf(values[i], 0) && !math.IsNaN(floors[i]) && !math.IsInf(floors[i], 0)
+	}
+	prev := -1
+	for i := range values {
+		if !finite(i) {
+			continue
+		}
+		if prev >= 0 {
+			floor := math.Max(floors[i], floors[prev])
+			if math.Abs(values[i]-values[prev]) <= floor {
+				return i + 1, floor
+			}
+		}
+		prev = i
+	}
+	return len(values), 0
+}
+
 // Galerkin analyses the estimates of a higher-order discretization
 // (piecewise polynomials or a global spectral basis) over a sequence of
 // sizes, steps[i] the index of the size (1, 2, …). Such bases converge

@@ -183,3 +183,47 @@ func TestCyclesNotConvergingAndShort(t *testing.T) {
 		t.Errorf("single order: %+v", e)
 	}
 }
+
+// Growing round-off: a subleading zero z of a truncated determinant, far
+// from the origin, converges like exp(−0.5 n²) until the rounding noise
+// of the coefficients, ε|z|^n with |z| = 15 (the growth seen for the decay
+// rate of the logistic repeller 6x(1 − x): floors 2.3e-10, 3.4e-9, 5e-8 at
+// lengths 6, 7, 8), takes over. Without the floors the model sees
+// differences that grow again and reports a stall; with them the sequence
+// is cut where successive values agree within their floors and the error
+// covers the truth and is not below the floor there. The floors are those
+// of the noise model itself (common practice, no source).
+func TestCyclesWithFloors(t *testing.T) {
+	const limit, z = 2.6930538661, 15.0
+	rng := rand.New(rand.NewPCG(5, 13))
+	orders := lengths(12)
+	floors := make([]float64, len(orders))
+	values := sample(orders, func(n float64) float64 {
+		floor := 0x1p-52 * math.Pow(z, n)
+		floors[int(n)-1] = floor
+		return limit + 0.2*math.Exp(-0.5*n*n) + floor*(2*rng.Float64()-1)
+	})
+	e := CyclesWithFloors(orders, values, floors, nil)
+	end, floor := floorCut(values, floors)
+	if end == len(values) {
+		t.Fatal("no cut found")
+	}
+	if e.Used > orders[end-1] || e.Status != RoundOffFloor {
+		t.Errorf("used %d, status %v (%s); want at most length %d, at the round-off floor", e.Used, e.Status, e.Reason, orders[end-1])
+	}
+	if math.Abs(e.Value-limit) > e.Error {
+		t.Errorf("value %.12g ± %.3g misses %.12g by %.3g", e.Value, e.Error, limit, math.Abs(e.Value-limit))
+	}
+	if e.Error < floor || e.Error > 100*math.Max(math.Abs(e.Value-limit), floor) {
+		t.Errorf("error %.3g, floor at the cut %.3g, true error %.3g", e.Error, floor, math.Abs(e.Value-limit))
+	}
+	if !strings.HasPrefix(e.Reason, "cut after length") {
+		t.Errorf("reason %q does not say where the sequence was cut", e.Reason)
+	}
+	// Floors far below the changes: the same estimate as Cycles.
+	tiny := make([]float64, len(orders))
+	smooth := sample(orders, func(n float64) float64 { return limit + 0.2*math.Exp(-0.25*n) })
+	if a, b := CyclesWithFloors(orders, smooth, tiny, nil), Cycles(orders, smooth, nil); a != b {
+		t.Errorf("with negligible floors %+v, without %+v", a, b)
+	}
+}

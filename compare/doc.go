@@ -50,6 +50,16 @@
 // the fit is exact and the tail d q/(1 − q) is Aitken's Δ² extrapolation
 // (A. C. Aitken, Proc. R. Soc. Edinburgh 46 (1926) 289–305, from memory).
 //
+// CyclesWithFloors takes the round-off floor of every estimate as well, as
+// the expansion computes it from the rounding of its coefficients. The
+// noise of a zero z of the truncated determinant grows like ε|z|^n, so the
+// estimates of a zero far out (a subleading eigenvalue: the decay rate of
+// the logistic repeller 6x(1 − x), |z| ≈ 15, reaches its floor of 3.4e-9
+// at length 7 and is off by 3e-4 at length 12) converge, then drift with
+// the noise: the sequence is cut after the first estimate that agrees
+// with the one before within their floors, and the error is at least
+// those floors. The cycles path of check uses it.
+//
 // Galerkin applies the same model to a higher-order discretization over a
 // sequence of sizes, on the index of the size (such bases converge at least
 // geometrically in it); its reasons name the causes of a stall that fit it

@@ -265,14 +265,16 @@ func (r *checkResult) ulamValues() ([]int, []float64) {
 	return cells, values
 }
 
-// cycleValues returns the truncation lengths and the cycle estimates.
-func (r *checkResult) cycleValues() ([]int, []float64) {
+// cycleValues returns the truncation lengths, the cycle estimates and
+// their round-off floors.
+func (r *checkResult) cycleValues() ([]int, []float64, []float64) {
 	orders := make([]int, len(r.expansion.Orders))
 	values := make([]float64, len(r.expansion.Orders))
+	floors := make([]float64, len(r.expansion.Orders))
 	for i, o := range r.expansion.Orders {
-		orders[i], values[i] = o.MaxLen, o.Value
+		orders[i], values[i], floors[i] = o.MaxLen, o.Value, o.Floor
 	}
-	return orders, values
+	return orders, values, floors
 }
 
 // runCheck runs both paths and compares them.
@@ -368,8 +370,8 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 	r.seconds["cycles"] = time.Since(start).Seconds()
 
 	cells, ulamValues := r.ulamValues()
-	orders, cycleValues := r.cycleValues()
-	r.cyclesEst = compare.Cycles(orders, cycleValues, nil)
+	orders, cycleValues, cycleFloors := r.cycleValues()
+	r.cyclesEst = compare.CyclesWithFloors(orders, cycleValues, cycleFloors, nil)
 	cyclesPath := compare.Path{Name: "cycles", Estimate: r.cyclesEst}
 	stalled := ""
 	if d := r.expansion.Diagnostics; d.Stalled {
@@ -392,7 +394,7 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 			r.comparison = r.galerkinComparison
 		}
 	}
-	r.advice = compare.Advise(cells, ulamValues, orders, cycleValues, opts.tol)
+	r.advice = compare.Advise(cells, ulamValues, orders, cycleValues, cycleFloors, opts.tol)
 	return r, nil
 }
 
@@ -448,7 +450,7 @@ func (r *checkResult) compareWithoutCycles() {
 	r.comparison = compare.ComparePaths(compare.Path{Name: "ulam", Estimate: r.ulamEst, Erratic: true},
 		compare.Path{Name: "galerkin", Estimate: r.galerkinEst})
 	cells, ulamValues := r.ulamValues()
-	advice := compare.Advise(cells, ulamValues, nil, nil, r.opts.tol)
+	advice := compare.Advise(cells, ulamValues, nil, nil, nil, r.opts.tol)
 	r.advice = compare.Advice{CellsNeeded: advice.CellsNeeded}
 	for _, n := range advice.Notes {
 		if !strings.HasPrefix(n, "cycles:") {
@@ -521,7 +523,7 @@ func (r *checkResult) columns() []column {
 	if !r.cyclesRun() {
 		return cols
 	}
-	orders, cv := r.cycleValues()
+	orders, cv, _ := r.cycleValues()
 	return append(cols, column{"cycle length n", "cycles " + q, orders, cv, 15})
 }
 
@@ -780,7 +782,7 @@ func (r *checkResult) write(w io.Writer, format string) error {
 
 func (r *checkResult) convergenceSeries() []convergenceSeries {
 	cells, uv := r.ulamValues()
-	orders, cv := r.cycleValues()
+	orders, cv, _ := r.cycleValues()
 	xs := func(ints []int) []float64 {
 		out := make([]float64, len(ints))
 		for i, v := range ints {
