@@ -21,15 +21,8 @@ work=${1:-$(mktemp -d)}
 limit=${ARPACK_LIMIT:-300}
 matrices=${MATRICES:-logistic henon logistic4 logistic-cycles henon-cycles}
 mkdir -p "$work"
-# The first Python that has SciPy: the one on PATH, else Debian's.
-py=""
-for candidate in python3 /usr/bin/python3; do
-  if "$candidate" -c 'import scipy' 2>/dev/null; then py=$candidate; break; fi
-done
-if [ -z "$py" ]; then
-  echo "arpack_compare: needs python3-scipy (apt-get install -y python3-scipy)" >&2
-  exit 2
-fi
+# shellcheck source=ulam/scripts/scipy_python.sh
+source ulam/scripts/scipy_python.sh arpack_compare
 go build -o "$work/crosspec" ./cmd/crosspec
 go build -o "$work/eigsmtx" ./ulam/scripts/eigsmtx
 for m in $matrices; do

@@ -19,15 +19,8 @@ cd "$(dirname "$0")/../.."
 work=${1:-$(mktemp -d)}
 repeats=${REPEATS:-20}
 mkdir -p "$work"
-# The first Python that has SciPy: the one on PATH, else Debian's.
-py=""
-for candidate in python3 /usr/bin/python3; do
-  if "$candidate" -c 'import scipy' 2>/dev/null; then py=$candidate; break; fi
-done
-if [ -z "$py" ]; then
-  echo "assembly_compare: needs python3-scipy (apt-get install -y python3-scipy)" >&2
-  exit 2
-fi
+# shellcheck source=ulam/scripts/scipy_python.sh
+source ulam/scripts/scipy_python.sh assembly_compare
 go build -o "$work/assemblytime" ./ulam/scripts/assemblytime
 cores=${GOMAXPROCS:-$(nproc)}
 keep="MALLOC_MMAP_THRESHOLD_=4294967296 MALLOC_TRIM_THRESHOLD_=68719476736"
