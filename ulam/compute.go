@@ -44,8 +44,13 @@ type Result struct {
 	Matrix *Matrix
 	// Density is the leading left eigenvector divided by the cell measure
 	// and normalised to integral 1, one value per kept cell; nil unless
-	// the quantity needs it or SolveSettings.Density is set.
+	// the quantity needs it or SolveSettings.Density is set, and nil with
+	// DensityErr set when it was asked for by SolveSettings.Density alone
+	// and the leading eigenvalue is not isolated (krylov.ErrLeadingMismatch:
+	// several invariant measures, no unique density).
 	Density []float64
+	// DensityErr says why Density is nil although it was asked for.
+	DensityErr error
 	// Derivative is dλ_0/dβ for mean and lyapunov; zero otherwise.
 	Derivative float64
 	// Assemblies counts the matrices built (more than one for the
@@ -119,8 +124,14 @@ func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *S
 	lambda0 := res.Eigenvalues[0]
 	res.Value = SpectrumValue(q, res.Eigenvalues)
 	if needPair {
+		pairQuantity := q == dynsys.Mean || q == dynsys.Lyapunov
 		if err := res.leading(m, sv); err != nil {
-			return res, err
+			if pairQuantity || !errors.Is(err, krylov.ErrLeadingMismatch) {
+				return res, err
+			}
+			// Only the density was asked for: the quantity stands
+			// without it.
+			res.DensityErr = err
 		}
 		if q == dynsys.Mean || q == dynsys.Lyapunov {
 			res.Value = res.Derivative / real(lambda0)

@@ -3,6 +3,7 @@ package ulam
 import (
 	"bufio"
 	"bytes"
+	"errors"
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
@@ -543,5 +544,38 @@ func testGaussExcluded(t *testing.T, minWidth float64, cells int) {
 	}
 	if l := real(r.Eigenvalues[0]); !(l < 1 && l > 1-5e-3) {
 		t.Errorf("λ_0 = %v, want within 5e-3 below 1", l)
+	}
+}
+
+// TestDensityNotUnique: two tent maps, each on its own half of [0, 1],
+// have two invariant densities (one on each half; common practice, no
+// source), so the leading eigenvalue 1 is double. The eigenvalues stand;
+// a density asked for alongside is left out with the reason, and the
+// mean, which needs the one invariant measure, is refused.
+func TestDensityNotUnique(t *testing.T) {
+	s, err := dynsys.Parse("two-tents.toml", []byte(`name = "two-tents"
+vars = ["x"]
+map = ["(x < 0.5) * (0.5 - abs(0.5 - 2*x)) + (x >= 0.5) * (1 - abs(1.5 - 2*x))"]
+domain = [[0.0, 1.0]]
+closed = true
+observable = "x"
+`), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := Compute(s, dynsys.Eigenvalues, &Settings{Cells: 400}, &SolveSettings{Eigenvalues: 2, Density: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Density != nil || !errors.Is(r.DensityErr, krylov.ErrLeadingMismatch) {
+		t.Errorf("density %v, reason %v; want none, for a leading eigenvalue that is not isolated", r.Density != nil, r.DensityErr)
+	}
+	for k := range 2 {
+		if cmplx.Abs(r.Eigenvalues[k]-1) > 1e-12 {
+			t.Errorf("eigenvalue %d = %v, want 1", k, r.Eigenvalues[k])
+		}
+	}
+	if _, err := Compute(s, dynsys.Mean, &Settings{Cells: 400}, nil); !errors.Is(err, krylov.ErrLeadingMismatch) {
+		t.Errorf("mean: error %v, want ErrLeadingMismatch", err)
 	}
 }

@@ -606,7 +606,7 @@ func (r *checkResult) verdictLines() []string {
 		for _, n := range r.advice.Notes {
 			lines = append(lines, "  "+n)
 		}
-		return lines
+		return append(lines, r.densityNote()...)
 	}
 	var lines []string
 	if len(r.ulamRuns) > 0 {
@@ -630,7 +630,16 @@ func (r *checkResult) verdictLines() []string {
 	for _, w := range expansionWarnings(r.expansion, r.info) {
 		lines = append(lines, "warning: "+w)
 	}
-	return lines
+	return append(lines, r.densityNote()...)
+}
+
+// densityNote says why the largest Ulam grid has no density (and so no
+// density plot), when it was asked for and could not be had.
+func (r *checkResult) densityNote() []string {
+	if err := r.ulamLast.DensityErr; err != nil {
+		return []string{"note: no density plot: " + err.Error()}
+	}
+	return nil
 }
 
 // jsonCheck is the check document of DESIGN.md section 6.

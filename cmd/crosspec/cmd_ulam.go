@@ -325,6 +325,12 @@ func exportMatrix(path string, m *ulam.Matrix, s *dynsys.System, q dynsys.Quanti
 // writeDensity writes the leading density: one line a kept cell, its
 // centre's coordinates and the density.
 func writeDensity(path string, res ulam.Result) error {
+	if res.Density == nil {
+		if res.DensityErr != nil {
+			return &numericalError{fmt.Errorf("no density: %w", res.DensityErr)}
+		}
+		return &numericalError{fmt.Errorf("no density was computed")}
+	}
 	f, err := os.Create(path)
 	if err != nil {
 		return usagef("--density: %v", err)
