@@ -339,8 +339,14 @@ func transposeOf(m Operator) krylov.Operator {
 // leading computes the leading left and right eigenvectors, the density
 // and dλ_0/dβ into res.
 func (res *Result) leading(m Operator, sv ulam.SolveSettings, set Settings) error {
-	mt := transposeOf(m)
-	pair, err := krylov.Leading(m, mt, krylovSettings(sv, 1))
+	var pair krylov.LeadingPair
+	var err error
+	if cm, ok := m.(*CellMatrix); ok {
+		// Split into irreducible blocks, as for the eigenvalues.
+		pair, err = krylov.LeadingSparse(cm, krylovSettings(sv, 1))
+	} else {
+		pair, err = krylov.Leading(m, transposeOf(m), krylovSettings(sv, 1))
+	}
 	res.addStats(pair.Stats, krylov.Converged)
 	if err != nil {
 		if errors.Is(err, krylov.ErrNotConverged) {

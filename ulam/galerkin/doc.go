@@ -59,8 +59,9 @@
 // irreducible diagonal blocks, finds each eigenvalue to within a few ε of
 // its own block (the doubling map's 2^(−k), k ≤ 7, to 2e-14 for every
 // N ≤ 70 up to size 400). Larger cell matrices are split the same way
-// (krylov.EigsSparse, which finds the blocks from the sparsity pattern)
-// and each block solved by itself: at N = 512, p = 3 the whole-matrix
+// (krylov.EigsSparse, which finds the blocks from the sparsity pattern;
+// krylov.LeadingSparse for the leading eigenvectors) and each block solved
+// by itself: at N = 512, p = 3 the whole-matrix
 // Krylov iteration missed 2^(−3) by 3e-10, the blocks give it to 1e-12.
 //
 // # Global Chebyshev basis (Chebyshev)
