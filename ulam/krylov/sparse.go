@@ -250,7 +250,8 @@ func (a *csrOperator) Apply(dst, x []float64) { a.index.MulVec(dst, x, a.val) }
 // block's leading eigenvalue has the same modulus to within the
 // tolerance, λ is not isolated and LeadingSparse returns an error matching
 // ErrLeadingMismatch. The residuals are computed on the whole matrix,
-// relative to the lower bound max(|λ|, ‖Av‖/‖v‖, ‖Aᵀu‖/‖u‖) of ‖A‖.
+// relative to the lower bound max(|λ|, ‖Av‖/‖v‖, ‖Aᵀu‖/‖u‖) of ‖A‖. Unlike
+// Leading, it returns no vectors with an error from a split matrix.
 func LeadingSparse(a SparseMatrix, s *Settings) (LeadingPair, error) {
 	var set Settings
 	if s != nil {
@@ -330,8 +331,8 @@ func LeadingSparse(a SparseMatrix, s *Settings) (LeadingPair, error) {
 		pair, err = Leading(newCSROperator(bp, bc, bv), transposed(bp, bc, bv), &set)
 		stats.Add(pair.Stats)
 		if err != nil {
-			pair.Stats = stats
-			return pair, err
+			// The block's vectors are not the matrix's: none returned.
+			return LeadingPair{Stats: stats}, fmt.Errorf("krylov: diagonal block %d of %d (%d of %d rows): %w", best+1, len(start)-1, len(rows), n, err)
 		}
 	}
 	lambda := pair.Value
