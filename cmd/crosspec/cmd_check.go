@@ -619,7 +619,12 @@ func (r *checkResult) verdictLines() []string {
 	if a.CycleLength > 0 {
 		lines = append(lines, fmt.Sprintf("advice: cycle length %d reaches the tolerance %g", a.CycleLength, r.opts.tol))
 	} else {
-		lines = append(lines, fmt.Sprintf("advice: no cycle length up to %d reaches the tolerance %g", r.opts.expand.maxLen, r.opts.tol))
+		line := fmt.Sprintf("advice: no cycle length up to %d reaches the tolerance %g", r.opts.expand.maxLen, r.opts.tol)
+		if st := r.cyclesEst.Status; st == compare.Converged || st == compare.Irregular {
+			// Still improving, not stalled: longer cycles may get there.
+			line += fmt.Sprintf("; the expansion is still improving: try a larger --max-len than %d", r.opts.expand.maxLen)
+		}
+		lines = append(lines, line)
 	}
 	if a.CellsNeeded > 0 && !math.IsInf(a.CellsNeeded, 0) {
 		lines = append(lines, fmt.Sprintf("  Ulam would need %s for the same tolerance at its observed order", cellsNeeded(a.CellsNeeded)))

@@ -236,3 +236,22 @@ func TestCheckGalerkin(t *testing.T) {
 		t.Errorf("one method: exit %d, %q", code, stderr)
 	}
 }
+
+// TestCheckAdviceLongerCycles: the horseshoe's cycle expansion is still
+// improving at the default length 8 of two-dimensional maps (its
+// differences fall irregularly but fast), so the advice names --max-len;
+// the Hénon map's does not settle at all, so it does not.
+func TestCheckAdviceLongerCycles(t *testing.T) {
+	for _, c := range []struct {
+		system string
+		hint   bool
+	}{{"horseshoe", true}, {"henon", false}} {
+		code, stdout, stderr := runCLI("check", c.system, "--quiet", "--cells", "4096,16384")
+		if code != exitOK {
+			t.Fatalf("%s: exit %d: %s", c.system, code, stderr)
+		}
+		if got := strings.Contains(stdout, "try a larger --max-len"); got != c.hint {
+			t.Errorf("%s: hint %v, want %v:\n%s", c.system, got, c.hint, stdout)
+		}
+	}
+}
