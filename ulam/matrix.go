@@ -7,6 +7,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"sync"
 	"sync/atomic"
 
 	"github.com/james-bowman/sparse"
@@ -98,11 +99,25 @@ func (m *Matrix) ApplyDerivative(dst, x []float64) {
 }
 
 // compactCSR is the index of the mat-vec (krylov.CSRIndex, 32-bit
-// integers), with what identifies the arrays it was made from.
+// integers), with what identifies the arrays it was made from, and the
+// irreducible blocks of the pattern once asked for.
 type compactCSR struct {
 	index             *krylov.CSRIndex
 	rowPtrSrc, colSrc *int
 	rows, nnz         int
+
+	blocksOnce   sync.Once
+	order, start []int
+}
+
+// IrreducibleBlocks returns krylov.IrreducibleBlocks of the matrix's
+// pattern, found at the first call and kept with the compact index (so
+// the eigenvalues and the leading eigenvectors of one matrix split it
+// once). The slices must not be modified.
+func (m *Matrix) IrreducibleBlocks() (order, start []int) {
+	c := m.compactIndex()
+	c.blocksOnce.Do(func() { c.order, c.start = krylov.IrreducibleBlocks(m.RowPtr, m.Col) })
+	return c.order, c.start
 }
 
 // compactIndex returns the compact index of m, making it when m has none

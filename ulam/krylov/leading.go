@@ -65,6 +65,13 @@ func Leading(op, opT Operator, s *Settings) (LeadingPair, error) {
 	}
 	set.Vectors = true
 	right, errRight := Eigs(op, &set)
+	return leadingFrom(right, errRight, op, opT, set)
+}
+
+// leadingFrom is Leading given the solve with A already made (right, with
+// vectors, and its error), by the settings set (Vectors set).
+func leadingFrom(right Result, errRight error, op, opT Operator, set Settings) (LeadingPair, error) {
+	n := op.Dim()
 	if errRight != nil && !errors.Is(errRight, ErrNotConverged) {
 		return LeadingPair{}, errRight
 	}

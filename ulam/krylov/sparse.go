@@ -16,8 +16,24 @@ type SparseMatrix interface {
 	Entries() (rowPtr, col []int, val []float64)
 }
 
+// blockKeeper is a SparseMatrix that keeps its irreducible blocks (the
+// result of IrreducibleBlocks on its pattern, not to be modified), so that
+// EigsSparse and LeadingSparse on the same matrix find them once.
+type blockKeeper interface {
+	IrreducibleBlocks() (order, start []int)
+}
+
+// blocksOf returns the irreducible blocks of a, kept ones if it keeps them.
+func blocksOf(a SparseMatrix, rowPtr, col []int) (order, start []int) {
+	if k, ok := a.(blockKeeper); ok {
+		return k.IrreducibleBlocks()
+	}
+	return IrreducibleBlocks(rowPtr, col)
+}
+
 // EigsSparse computes what Eigs computes, for a matrix known by its
-// entries. A reducible matrix (its graph of nonzeros not strongly
+// entries (which may keep its blocks: a method IrreducibleBlocks() (order,
+// start []int) returning IrreducibleBlocks of its pattern is used). A reducible matrix (its graph of nonzeros not strongly
 // connected) is first split into the irreducible diagonal blocks of its
 // block triangular form (IrreducibleBlocks). The eigenvalues of a block
 // triangular matrix are those of its diagonal blocks, so each block of
@@ -45,7 +61,7 @@ func EigsSparse(a SparseMatrix, s *Settings) (Result, error) {
 		return Eigs(a, s)
 	}
 	rowPtr, col, val := a.Entries()
-	order, start := IrreducibleBlocks(rowPtr, col)
+	order, start := blocksOf(a, rowPtr, col)
 	if len(start) <= 2 {
 		return Eigs(a, s)
 	}
@@ -264,7 +280,7 @@ func LeadingSparse(a SparseMatrix, s *Settings) (LeadingPair, error) {
 	rowPtr, col, val := a.Entries()
 	n := len(rowPtr) - 1
 	whole := func() (LeadingPair, error) { return Leading(a, transposed(rowPtr, col, val), s) }
-	order, start := IrreducibleBlocks(rowPtr, col)
+	order, start := blocksOf(a, rowPtr, col)
 	if len(start) <= 2 {
 		return whole()
 	}
@@ -287,35 +303,51 @@ func LeadingSparse(a SparseMatrix, s *Settings) (LeadingPair, error) {
 		return 0
 	}
 
-	// The leading eigenvalue of every block; the largest is λ.
+	// The leading eigenvalue of every block; the largest is λ. The solve
+	// of the leading block, with its vectors, serves as the right half of
+	// Leading on it (its work is counted there).
 	var stats Stats
 	best, bestMod, second := -1, 0.0, 0.0
+	bs := set
+	bs.Wanted, bs.Vectors, bs.Start = 1, true, nil
+	type blockSolve struct {
+		rowPtr, col []int
+		val         []float64
+		op          *csrOperator
+		right       Result
+	}
+	var lead blockSolve // of the leading block, when it has more than one row
 	for b := 0; b+1 < len(start); b++ {
 		rows := order[start[b]:start[b+1]]
 		var mod float64
+		var this blockSolve
 		if len(rows) == 1 {
 			mod = math.Abs(diagonal(rows[0]))
 		} else {
-			bs := set
-			bs.Wanted, bs.Vectors, bs.Start = 1, false, nil
-			r, err := Eigs(principal(rowPtr, col, val, rows, pos), &bs)
-			stats.Add(r.Stats)
+			this.rowPtr, this.col, this.val = principalArrays(rowPtr, col, val, rows, pos)
+			this.op = newCSROperator(this.rowPtr, this.col, this.val)
+			var err error
+			this.right, err = Eigs(this.op, &bs)
 			if err != nil {
+				stats.Add(this.right.Stats)
 				return LeadingPair{Stats: stats}, fmt.Errorf("krylov: diagonal block %d of %d (%d of %d rows): %w", b+1, len(start)-1, len(rows), n, err)
 			}
-			mod = cmplxAbs(r.Values[0])
+			mod = cmplxAbs(this.right.Values[0])
 		}
 		if best < 0 || mod > bestMod {
 			second = max(second, bestMod)
-			best, bestMod = b, mod
+			stats.Add(lead.right.Stats)
+			best, bestMod, lead = b, mod, this
 		} else {
 			second = max(second, mod)
+			stats.Add(this.right.Stats)
 		}
 	}
 	if bestMod == 0 {
 		return whole() // nilpotent: no dominant block
 	}
 	if second >= bestMod*(1-math.Sqrt(tol)) {
+		stats.Add(lead.right.Stats)
 		return LeadingPair{Stats: stats}, fmt.Errorf("%w: two diagonal blocks have leading eigenvalues of modulus %.15g and %.15g",
 			ErrLeadingMismatch, bestMod, second)
 	}
@@ -326,9 +358,8 @@ func LeadingSparse(a SparseMatrix, s *Settings) (LeadingPair, error) {
 	if len(rows) == 1 {
 		pair = LeadingPair{Value: diagonal(rows[0]), Right: []float64{1}, Left: []float64{1}}
 	} else {
-		bp, bc, bv := principalArrays(rowPtr, col, val, rows, pos)
 		var err error
-		pair, err = Leading(newCSROperator(bp, bc, bv), transposed(bp, bc, bv), &set)
+		pair, err = leadingFrom(lead.right, nil, lead.op, transposed(lead.rowPtr, lead.col, lead.val), bs)
 		stats.Add(pair.Stats)
 		if err != nil {
 			// The block's vectors are not the matrix's: none returned.
