@@ -103,7 +103,7 @@ func TestEigsSparseAgainstDense(t *testing.T) {
 // eigenvalues are the cube roots of the cycle's product p (the 3×3 block
 // is a weighted cyclic permutation), the others exact zeros (nilpotent
 // transient part), which a dense solve would blur to about ε^(1/j) for
-// Jordan chains of length j.
+// Jordan chains of length j. (Closed form: common practice, no source.)
 func TestEigsSparseZeros(t *testing.T) {
 	es := []entry{{0, 1, 2}, {1, 2, 0.5}, {2, 0, 0.216}} // p = 0.216 = 0.6³
 	for i := 3; i < 203; i++ {
@@ -235,7 +235,8 @@ func TestLeadingSparse(t *testing.T) {
 }
 
 // TestLeadingSparseTie: two disconnected copies of a block share the
-// leading eigenvalue, which is then not isolated.
+// leading eigenvalue (1, the row sums of each: common practice, no
+// source), which is then not isolated.
 func TestLeadingSparseTie(t *testing.T) {
 	a := newCSR(4, []entry{{0, 0, 0.5}, {0, 1, 0.5}, {1, 0, 0.5}, {1, 1, 0.5}, {2, 2, 0.5}, {2, 3, 0.5}, {3, 2, 0.5}, {3, 3, 0.5}})
 	if _, err := LeadingSparse(a, nil); !errors.Is(err, ErrLeadingMismatch) {
