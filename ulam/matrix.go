@@ -104,7 +104,6 @@ func (m *Matrix) ApplyDerivative(dst, x []float64) {
 type compactCSR struct {
 	index             *krylov.CSRIndex
 	rowPtrSrc, colSrc *int
-	rows, nnz         int
 
 	blocksOnce   sync.Once
 	order, start []int
@@ -129,7 +128,7 @@ func (m *Matrix) compactIndex() *compactCSR {
 	if c != nil && c.matches(m) {
 		return c
 	}
-	c = &compactCSR{rows: len(m.RowPtr) - 1, nnz: len(m.Col), index: krylov.NewCSRIndex(m.RowPtr, m.Col)}
+	c = &compactCSR{index: krylov.NewCSRIndex(m.RowPtr, m.Col)}
 	if len(m.RowPtr) > 0 {
 		c.rowPtrSrc = &m.RowPtr[0]
 	}
@@ -141,7 +140,7 @@ func (m *Matrix) compactIndex() *compactCSR {
 }
 
 func (c *compactCSR) matches(m *Matrix) bool {
-	if c.rows != len(m.RowPtr)-1 || c.nnz != len(m.Col) {
+	if c.index.Dim() != len(m.RowPtr)-1 || c.index.NNZ() != len(m.Col) {
 		return false
 	}
 	return (len(m.RowPtr) == 0 || c.rowPtrSrc == &m.RowPtr[0]) && (len(m.Col) == 0 || c.colSrc == &m.Col[0])
