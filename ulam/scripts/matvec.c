@@ -21,9 +21,15 @@ static int cmp(const void *a, const void *b) {
 	return (x > y) - (x < y);
 }
 
+/* The median as the Go and Python sides take it: the mean of the middle
+ * two of an even count. */
+static double median(const double *t, int r) {
+	return r % 2 ? t[r / 2] : 0.5 * (t[r / 2 - 1] + t[r / 2]);
+}
+
 static void report(const char *what, int threads, double *t, int r) {
 	qsort(t, r, sizeof *t, cmp);
-	printf("%s %d %.3f %.3f\n", what, threads, t[0], t[r / 2]);
+	printf("%s %d %.3f %.3f\n", what, threads, t[0], median(t, r));
 }
 
 int main(int argc, char **argv) {
@@ -94,7 +100,7 @@ int main(int argc, char **argv) {
 			if (r >= 0) t[r] = sec / (big * 8 / 1e9);
 		}
 		qsort(t, reads, sizeof *t, cmp);
-		printf("read %d %.2f %.2f\n", threads, 1 / t[0], 1 / t[reads / 2]);
+		printf("read %d %.2f %.2f\n", threads, 1 / t[0], 1 / median(t, reads));
 	}
 	return sink == 42 ? 3 : 0;
 }

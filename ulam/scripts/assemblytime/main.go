@@ -19,12 +19,11 @@ package main
 import (
 	"fmt"
 	"os"
-	"slices"
-	"strconv"
 	"time"
 
 	"crosspec/dynsys"
 	"crosspec/ulam"
+	"crosspec/ulam/scripts/internal/runs"
 )
 
 func main() {
@@ -43,14 +42,7 @@ func main() {
 		fmt.Fprintln(os.Stderr, "assemblytime: unknown matrix", os.Args[1])
 		os.Exit(2)
 	}
-	repeats := 20
-	if len(os.Args) == 3 {
-		var err error
-		if repeats, err = strconv.Atoi(os.Args[2]); err != nil || repeats < 0 {
-			fmt.Fprintln(os.Stderr, "assemblytime: REPEATS must be a nonnegative integer")
-			os.Exit(2)
-		}
-	}
+	repeats := runs.Repeats("assemblytime", 2, 20, 0)
 	sys, err := dynsys.Open(system, nil)
 	if err != nil {
 		fmt.Fprintln(os.Stderr, "assemblytime:", err)
@@ -75,12 +67,7 @@ func main() {
 	}
 	best, median := first, first
 	if repeats > 0 {
-		slices.Sort(times)
-		best = times[0]
-		median = times[repeats/2]
-		if repeats%2 == 0 {
-			median = 0.5 * (times[repeats/2-1] + times[repeats/2])
-		}
+		best, median = runs.BestMedian(times)
 	}
 	fmt.Printf("%s %d %d %.4f %.4f %.4f %d\n", os.Args[1], m.Dim(), m.NNZ(), first, best, median, repeats)
 }

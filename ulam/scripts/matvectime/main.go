@@ -20,12 +20,11 @@ import (
 	"encoding/binary"
 	"fmt"
 	"os"
-	"slices"
-	"strconv"
 	"time"
 
 	"crosspec/dynsys"
 	"crosspec/ulam"
+	"crosspec/ulam/scripts/internal/runs"
 )
 
 func main() {
@@ -33,14 +32,7 @@ func main() {
 		fmt.Fprintln(os.Stderr, "usage: matvectime FILE.bin [REPEATS]")
 		os.Exit(2)
 	}
-	repeats := 200
-	if len(os.Args) == 3 {
-		var err error
-		if repeats, err = strconv.Atoi(os.Args[2]); err != nil || repeats < 1 {
-			fmt.Fprintln(os.Stderr, "matvectime: REPEATS must be a positive integer")
-			os.Exit(2)
-		}
-	}
+	repeats := runs.Repeats("matvectime", 2, 200, 1)
 	sys, err := dynsys.Open("logistic-repeller", nil)
 	if err != nil {
 		fail(err)
@@ -64,8 +56,8 @@ func main() {
 		m.Apply(dst, x)
 		times[r] = time.Since(start).Seconds() * 1e3
 	}
-	slices.Sort(times)
-	fmt.Printf("%d %d %.3f %.3f %d\n", n, m.NNZ(), times[0], times[repeats/2], repeats)
+	best, median := runs.BestMedian(times)
+	fmt.Printf("%d %d %.3f %.3f %d\n", n, m.NNZ(), best, median, repeats)
 }
 
 func writeBinary(path string, m *ulam.Matrix) error {
