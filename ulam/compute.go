@@ -184,11 +184,8 @@ func (res *Result) leading(m *Matrix, sv SolveSettings) error {
 	if m.Derivative != nil {
 		pv := make([]float64, m.Dim())
 		m.ApplyDerivative(pv, v)
-		var s float64
-		for i := range u {
-			s += u[i] * pv[i]
-		}
-		res.Derivative = s
+		// Accurately: plain sums of long positive vectors err like εn.
+		res.Derivative = krylov.Dot(u, pv)
 	}
 	// The left eigenvector holds the cells' masses (ρ ← Pᵀρ).
 	var total float64

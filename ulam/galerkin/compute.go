@@ -358,11 +358,8 @@ func (res *Result) leading(m Operator, sv ulam.SolveSettings, set Settings) erro
 	if set.Derivative {
 		mv := make([]float64, m.Dim())
 		m.ApplyDerivative(mv, v)
-		var s float64
-		for i := range u {
-			s += u[i] * mv[i]
-		}
-		res.Derivative = s
+		// Accurately: plain sums of long positive vectors err like εn.
+		res.Derivative = krylov.Dot(u, mv)
 	}
 	// The density: the left eigenvector of K holds the Legendre
 	// coefficients (K is the transpose of the transfer operator's

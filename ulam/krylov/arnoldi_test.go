@@ -41,7 +41,7 @@ func TestDelayedArnoldi(t *testing.T) {
 			s := newSolver(tc.op, c)
 			s.basis = newBasis(n, m+1, m+1)
 			fillRandom(s.basis.col(0), 1)
-			scale(1/math.Sqrt(dot(s.basis.col(0), s.basis.col(0))), s.basis.col(0))
+			scale(1/math.Sqrt(Dot(s.basis.col(0), s.basis.col(0))), s.basis.col(0))
 			if err := s.firstStep(0); err != nil {
 				t.Fatal(err)
 			}
@@ -64,7 +64,7 @@ func TestDelayedArnoldi(t *testing.T) {
 					if i == j {
 						want = 1
 					}
-					worst = max(worst, math.Abs(dot(s.basis.col(i), s.basis.col(j))-want))
+					worst = max(worst, math.Abs(Dot(s.basis.col(i), s.basis.col(j))-want))
 				}
 			}
 			if worst > tol {
@@ -84,7 +84,7 @@ func TestDelayedArnoldi(t *testing.T) {
 						av[r] -= h * col[r]
 					}
 				}
-				worst = max(worst, math.Sqrt(dot(av, av)))
+				worst = max(worst, math.Sqrt(Dot(av, av)))
 			}
 			if worst > tol*s.norm {
 				t.Errorf("max_j ‖A v_j − V h_j‖ = %.3g, want ≤ %g·‖A‖ = %.3g", worst, tol, tol*s.norm)

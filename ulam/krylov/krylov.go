@@ -605,7 +605,7 @@ func (s *solver) run() (Result, error) {
 	} else {
 		fillRandom(v0, 1)
 	}
-	norm0 := dot(v0, v0)
+	norm0 := Dot(v0, v0)
 	if norm0 == 0 || math.IsNaN(norm0) || math.IsInf(norm0, 0) {
 		return Result{}, errors.New("krylov: start vector is zero or not finite")
 	}

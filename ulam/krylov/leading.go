@@ -84,7 +84,7 @@ func leadingFrom(right Result, errRight error, op, opT Operator, set Settings) (
 	}
 	v := right.Vectors[0]
 	u := left.Vectors[0]
-	uv := dot(u, v)
+	uv := Dot(u, v)
 	pair := LeadingPair{
 		Right:         v,
 		Left:          u,
@@ -109,10 +109,10 @@ func leadingFrom(right Result, errRight error, op, opT Operator, set Settings) (
 			ErrLeadingMismatch, lambdaRight, lambdaLeft, cond)
 	}
 	scale(1/uv, u)
-	pair.Condition = math.Sqrt(dot(u, u))
+	pair.Condition = math.Sqrt(Dot(u, u))
 	av := make([]float64, n)
 	op.Apply(av, v)
-	pair.Value = dot(u, av) / dot(u, v)
+	pair.Value = Dot(u, av) / Dot(u, v)
 	if errRight != nil {
 		return pair, errRight
 	}

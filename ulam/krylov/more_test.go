@@ -84,7 +84,7 @@ func TestLeading(t *testing.T) {
 		if !scalar.EqualWithinAbsOrRel(pair.Value, 1, 10*tol, 0) {
 			t.Errorf("λ_0 = %v, want 1", pair.Value)
 		}
-		if uv := dot(pair.Left, pair.Right); !scalar.EqualWithinAbsOrRel(uv, 1, 1e-14, 0) {
+		if uv := Dot(pair.Left, pair.Right); !scalar.EqualWithinAbsOrRel(uv, 1, 1e-14, 0) {
 			t.Errorf("⟨u, v⟩ = %v, want 1", uv)
 		}
 		// u is a multiple of 1: entries agree to the eigenvector error,
@@ -111,7 +111,7 @@ func TestLeading(t *testing.T) {
 		}
 		ev := make([]float64, e.n)
 		e.Apply(ev, pair.Right)
-		derivative := dot(pair.Left, ev)
+		derivative := Dot(pair.Left, ev)
 		// λ_0(β) of A + βE by mat.Eigen at β = ±h: the central difference
 		// has truncation error h²|λ'''|/6 (≈ 1e-10 for h = 1e-5 and
 		// derivatives of order ‖E‖³/gap² ≲ 1) and rounding error

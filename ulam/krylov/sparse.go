@@ -466,7 +466,7 @@ func LeadingSparse(a SparseMatrix, s *Settings) (LeadingPair, error) {
 	// v of unit norm with its entry of largest modulus positive, as
 	// Leading returns it; ⟨u, v⟩ = 1 (it is ⟨u_b, v_b⟩ = 1 before v is
 	// rescaled).
-	vn := math.Sqrt(dot(v, v))
+	vn := math.Sqrt(Dot(v, v))
 	top := 0
 	for i, x := range v {
 		if math.Abs(x) > math.Abs(v[top]) {
@@ -474,8 +474,8 @@ func LeadingSparse(a SparseMatrix, s *Settings) (LeadingPair, error) {
 		}
 	}
 	scale(math.Copysign(1/vn, v[top]), v)
-	scale(1/dot(u, v), u)
-	out := LeadingPair{Value: lambda, Right: v, Left: u, Condition: math.Sqrt(dot(u, u)), Stats: stats}
+	scale(1/Dot(u, v), u)
+	out := LeadingPair{Value: lambda, Right: v, Left: u, Condition: math.Sqrt(Dot(u, u)), Stats: stats}
 	out.RightResidual, out.LeftResidual = pairResiduals(rowPtr, col, val, lambda, u, v)
 	out.Stats.MatVecs += 2
 	return out, nil
@@ -532,7 +532,7 @@ func pairResiduals(rowPtr, col []int, val []float64, lambda float64, u, v []floa
 		avv += av[i] * av[i]
 		atuu += atu[i] * atu[i]
 	}
-	vn, un := math.Sqrt(dot(v, v)), math.Sqrt(dot(u, u))
+	vn, un := math.Sqrt(Dot(v, v)), math.Sqrt(Dot(u, u))
 	nu := max(math.Abs(lambda), math.Sqrt(avv)/vn, math.Sqrt(atuu)/un)
 	return math.Sqrt(rr) / (nu * vn), math.Sqrt(ll) / (nu * un)
 }

@@ -215,7 +215,7 @@ func TestLeadingSparse(t *testing.T) {
 			if pair.RightResidual > 1e-10 || pair.LeftResidual > 1e-10 {
 				t.Errorf("residuals %.3g (right), %.3g (left)", pair.RightResidual, pair.LeftResidual)
 			}
-			if uv := dot(pair.Left, pair.Right); math.Abs(uv-1) > 1e-12 {
+			if uv := Dot(pair.Left, pair.Right); math.Abs(uv-1) > 1e-12 {
 				t.Errorf("⟨u, v⟩ = %.15g", uv)
 			}
 			whole, err := Leading(tc.a, tc.a.transpose(), nil)
