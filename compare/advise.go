@@ -36,7 +36,9 @@ const DefaultTolerance = 1e-8
 //
 // Cells: the raw Ulam error at the last partition, ε = max(|v_last − V|, E)
 // with V ± E the Ulam estimate, scaled as ε (N_last/N)^p with the observed
-// order p: N = N_last (ε/tol)^(1/p).
+// order p: N = N_last (ε/tol)^(1/p). When the Ulam estimates are at their
+// round-off floor (exact up to rounding), it is the first partition on the
+// floor if the floor's error is below tol, +Inf if not.
 func Advise(cells []int, ulamValues []float64, orders []int, cycleValues, cycleFloors []float64, tol float64) Advice {
 	if !(tol > 0) {
 		tol = DefaultTolerance
@@ -72,7 +74,18 @@ func Advise(cells []int, ulamValues []float64, orders []int, cycleValues, cycleF
 		last := float64(ul.Used)
 		eps := math.Max(math.Abs(ul.Last-ul.Value), ul.Error)
 		p := ul.Order
-		if p > 0 && !math.IsInf(p, 0) && eps > 0 && !math.IsInf(eps, 0) && last > 0 {
+		if ul.Status == RoundOffFloor {
+			// Exact up to rounding from ul.Used on (a piecewise-linear
+			// map with its breakpoints on the grid): no order to extend.
+			if ul.Error < tol {
+				a.CellsNeeded = last
+				a.Notes = append(a.Notes, fmt.Sprintf("ulam: the estimates agree to round-off from %d cells on (error %.3g): that partition reaches %.3g",
+					ul.Used, ul.Error, tol))
+			} else {
+				a.Notes = append(a.Notes, fmt.Sprintf("ulam: the estimates agree to round-off from %d cells on, but their error %.3g is above %.3g: no partition size reaches it",
+					ul.Used, ul.Error, tol))
+			}
+		} else if p > 0 && !math.IsInf(p, 0) && eps > 0 && !math.IsInf(eps, 0) && last > 0 {
 			a.CellsNeeded = last * math.Pow(eps/tol, 1/p)
 			a.Notes = append(a.Notes, fmt.Sprintf("ulam: error %.3g at %d cells, observed order %.3g (%s): about %.3g cells for %.3g",
 				eps, ul.Used, p, ul.Status, a.CellsNeeded, tol))

@@ -144,7 +144,7 @@ func unconverged(s Status, regular bool) bool {
 // Unconfirmed downgrades an agreement to Inconclusive for the given
 // reason, which is added to Reasons whatever the verdict: callers use it
 // for diagnostics the estimates do not carry, such as a cycle expansion
-// whose coefficients stop decreasing.
+// whose coefficients decay no faster than geometrically.
 func (c *Comparison) Unconfirmed(reason string) {
 	if c.Verdict == Agree {
 		c.Verdict = Inconclusive

@@ -110,6 +110,19 @@ func TestAdvise(t *testing.T) {
 		t.Errorf("predicted cycle length %d, want %d (%q)", a.CycleLength, want, a.Notes)
 	}
 
+	// Ulam exact at every partition but for rounding noise of 1e-16: the
+	// estimates are on their floor from the first partition, which is
+	// the one advised; a tolerance below the floor's error gets none.
+	exact := sample(cells, func(n float64) float64 { return limit + 1e-16*math.Sin(n) })
+	a = Advise(cells, exact, orders, sample(orders, gauss), nil, tol)
+	if a.CellsNeeded != float64(cells[0]) {
+		t.Errorf("Ulam at its floor: cells needed %g, want %d (%q)", a.CellsNeeded, cells[0], a.Notes)
+	}
+	a = Advise(cells, exact, orders, sample(orders, gauss), nil, 1e-18)
+	if !math.IsInf(a.CellsNeeded, 1) {
+		t.Errorf("Ulam at its floor, tolerance 1e-18: cells needed %g, want +Inf (%q)", a.CellsNeeded, a.Notes)
+	}
+
 	// Order 2: N = sqrt(C/tol).
 	ulam2 := sample(cells, func(n float64) float64 { return limit + 3/(n*n) })
 	a = Advise(cells, ulam2, orders, sample(orders, gauss), nil, 0)

@@ -375,7 +375,7 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 	cyclesPath := compare.Path{Name: "cycles", Estimate: r.cyclesEst}
 	stalled := ""
 	if d := r.expansion.Diagnostics; d.Stalled {
-		stalled = fmt.Sprintf("the cycle expansion's coefficients stop decreasing at length %d: missing cycles, pruning or marginal cycles", d.StallLen)
+		stalled = fmt.Sprintf("the cycle expansion's coefficients decay no faster than geometrically from length %d: %s", d.StallLen, stallCauses)
 	}
 	r.ulamEst = r.estimateUlam()
 	if len(cells) > 0 {
@@ -599,7 +599,7 @@ func (r *checkResult) verdictLines() []string {
 	if !r.cyclesRun() {
 		lines := comparisonLines("verdict, Ulam against Galerkin", r.comparison)
 		if a := r.advice; a.CellsNeeded > 0 && !math.IsInf(a.CellsNeeded, 0) {
-			lines = append(lines, fmt.Sprintf("advice: Ulam would need %s for the tolerance %g at its observed order", cellsNeeded(a.CellsNeeded), r.opts.tol))
+			lines = append(lines, fmt.Sprintf("advice: Ulam would need %s for the tolerance %g", cellsNeeded(a.CellsNeeded), r.opts.tol))
 		} else {
 			lines = append(lines, fmt.Sprintf("advice: no Ulam partition size can be predicted for the tolerance %g", r.opts.tol))
 		}
@@ -627,7 +627,7 @@ func (r *checkResult) verdictLines() []string {
 		lines = append(lines, line)
 	}
 	if a.CellsNeeded > 0 && !math.IsInf(a.CellsNeeded, 0) {
-		lines = append(lines, fmt.Sprintf("  Ulam would need %s for the same tolerance at its observed order", cellsNeeded(a.CellsNeeded)))
+		lines = append(lines, fmt.Sprintf("  Ulam would need %s for the same tolerance", cellsNeeded(a.CellsNeeded)))
 	}
 	for _, n := range a.Notes {
 		lines = append(lines, "  "+n)

@@ -29,8 +29,9 @@ or for 1D maps the factorized determinant (the product of the 1/zeta_k, which
 keeps subleading eigenvalues well conditioned). The table shows the quantity at
 every truncation length N with its change from N-1 and its round-off floor; the
 summary gives the value where the sequence stops improving, with its estimated
-(not rigorous) error, and flags coefficients that stop decreasing (a symptom of
-missing cycles or pruning).`,
+(not rigorous) error, and flags coefficients that decay no faster than
+geometrically (a symptom of missing cycles, pruning, or a map that is not
+uniformly hyperbolic).`,
 	setup: func(fs *flag.FlagSet, e *env) func([]string) int {
 		params := paramFlag{}
 		fs.Var(params, "param", "override a parameter, NAME=VALUE (repeatable)")
@@ -296,12 +297,21 @@ func trimEigs(vs []complex128, k int) []complex128 {
 	return vs
 }
 
+// stallCauses lists what makes a determinant's coefficients decay only
+// geometrically: cycles left out or pruned, marginal cycles, or a map that
+// is not uniformly hyperbolic (the logistic map at 4, whose critical point
+// makes its expansion converge at the rate 1/2 although every cycle is
+// there).
+const stallCauses = "missing cycles, pruning, marginal cycles, or a map that is not uniformly hyperbolic, such as one with a critical point"
+
 func expansionWarnings(res cycles.QuantityResult, info cycleInfo) []string {
 	var out []string
-	if d := res.Diagnostics; d.Stalled {
-		out = append(out, fmt.Sprintf("the expansion coefficients stop decreasing at length %d: missing cycles, pruning or marginal cycles; treat the values beyond it with suspicion", d.StallLen))
-	}
-	if res.Estimate.Status == cycles.Stalled {
+	d := res.Diagnostics
+	if d.Stalled {
+		out = append(out, fmt.Sprintf("the expansion coefficients decay no faster than geometrically from length %d (%s): the values converge slowly if at all; treat those beyond it with suspicion", d.StallLen, stallCauses))
+	} else if res.Estimate.Status == cycles.Stalled {
+		// The values' own changes stalled (with the coefficients'
+		// stall, the warning above says why).
 		out = append(out, "the estimates stopped improving above the round-off floor (stalled)")
 	}
 	out = append(out, info.notes...)

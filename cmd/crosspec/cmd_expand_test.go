@@ -64,6 +64,41 @@ func TestExpandJSON(t *testing.T) {
 	}
 }
 
+// TestExpandNonHyperbolic checks the warning for x → 4x(1−x): its search is
+// complete, but the critical point makes the determinant's coefficients
+// decay only geometrically (the leading zero converges at the rate 1/2;
+// common practice, no source), so the warning must name that cause and not
+// claim that the values, which still halve their changes at every length,
+// stopped improving.
+func TestExpandNonHyperbolic(t *testing.T) {
+	code, stdout, stderr := runCLI("expand", "logistic4", "--quantity", "lyapunov", "--max-len", "9", "--format", "json")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var doc struct {
+		Orders []struct {
+			Value float64 `json:"value"`
+		} `json:"orders"`
+		Warnings []string `json:"warnings"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	n := len(doc.Orders)
+	if n < 3 {
+		t.Fatalf("%d orders", n)
+	}
+	last := math.Abs(doc.Orders[n-1].Value - doc.Orders[n-2].Value)
+	before := math.Abs(doc.Orders[n-2].Value - doc.Orders[n-3].Value)
+	if !(last < 0.6*before) {
+		t.Fatalf("changes %.3g then %.3g: the premise, convergence at the rate 1/2, does not hold", before, last)
+	}
+	warnings := strings.Join(doc.Warnings, "\n")
+	if !strings.Contains(warnings, "critical point") || strings.Contains(warnings, "stopped improving") {
+		t.Errorf("warnings %q: want the geometric decay with its causes, a critical point among them, and no stall of the values", warnings)
+	}
+}
+
 // TestExpandCycleFile expands a cycle file with planted errors: each
 // rejected cycle is listed on stderr with its line, and the rest is used.
 func TestExpandCycleFile(t *testing.T) {
