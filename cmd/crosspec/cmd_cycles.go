@@ -39,8 +39,11 @@ jobs) run: --shard i/K, with i counted from 1 to K, searches shard i alone and
 needs -o FILE; the file's first line names the shard, the system, its
 parameters and the longest length, and its last line marks the shard finished.
 --resume continues an interrupted shard. 1D maps split their itineraries by
-prefix; maps of dimension d ≥ 2 split their seeds, so two shards may find the
-same cycle. A shard claims no completeness. --merge FILE,FILE,… joins the files
+prefix; maps of dimension d ≥ 2 split their starting seeds, so two shards may
+find the same cycle. A d ≥ 2 shard also seeds from every orbit it finds, as the
+whole search does, so that the shards together find what it finds; on a small
+attractor such as the Henon map's each shard then finds nearly every cycle and
+the split saves little time. A shard claims no completeness. --merge FILE,FILE,… joins the files
 of all K shards, removes cycles found twice, orders them as the whole search
 would, runs the completeness checks and reports (and with -o writes) the
 result; a missing, repeated or unfinished shard, or a shard of another system,
