@@ -48,7 +48,7 @@ type Matrix struct {
 	// GridCells is the number of cells of the full grid before restriction.
 	GridCells int
 
-	compact atomic.Pointer[compactCSR] // index arrays of the mat-vec
+	pattern atomic.Pointer[patternCache] // mat-vec index and blocks, made when needed
 }
 
 // Dim returns the number of rows (and columns).
@@ -87,7 +87,7 @@ func (m *Matrix) DerivativeCSR() *sparse.CSR {
 // and kept with the matrix; it is
 // remade when RowPtr or Col are replaced, but not when they are changed in
 // place, which must therefore happen before the first Apply.
-func (m *Matrix) Apply(dst, x []float64) { m.compactIndex().mulVec(dst, x, m.Val) }
+func (m *Matrix) Apply(dst, x []float64) { m.patternCache().csr().MulVec(dst, x, m.Val) }
 
 // ApplyDerivative sets dst = (dP/dβ) x. It panics if the matrix holds no
 // derivative.
@@ -95,61 +95,76 @@ func (m *Matrix) ApplyDerivative(dst, x []float64) {
 	if m.Derivative == nil {
 		panic("ulam: matrix assembled without its derivative")
 	}
-	m.compactIndex().mulVec(dst, x, m.Derivative)
+	m.patternCache().csr().MulVec(dst, x, m.Derivative)
 }
 
-// compactCSR is the index of the mat-vec (krylov.CSRIndex, 32-bit
-// integers), with what identifies the arrays it was made from, and the
-// irreducible blocks of the pattern once asked for.
-type compactCSR struct {
-	index             *krylov.CSRIndex
+// patternCache keeps what is derived from the matrix's pattern, each part
+// made at its first use: the compact index of the mat-vec
+// (krylov.CSRIndex, 32-bit integers) and the irreducible blocks; with what
+// identifies the arrays they were made from.
+type patternCache struct {
 	rowPtrSrc, colSrc *int
+	n, nnz            int
+	rowPtr, col       []int // the arrays, for the parts still to be made
+
+	indexOnce sync.Once
+	index     *krylov.CSRIndex
 
 	blocksOnce   sync.Once
 	order, start []int
 }
 
 // IrreducibleBlocks returns krylov.IrreducibleBlocks of the matrix's
-// pattern, found at the first call and kept with the compact index (so
-// the eigenvalues and the leading eigenvectors of one matrix split it
-// once). The slices must not be modified.
+// pattern, found at the first call and kept with the matrix (so the
+// eigenvalues and the leading eigenvectors of one matrix split it once,
+// and a restriction passes the blocks on to its submatrix). The slices
+// must not be modified.
 func (m *Matrix) IrreducibleBlocks() (order, start []int) {
-	c := m.compactIndex()
-	c.blocksOnce.Do(func() { c.order, c.start = krylov.IrreducibleBlocks(m.RowPtr, m.Col) })
+	c := m.patternCache()
+	c.blocksOnce.Do(func() { c.order, c.start = krylov.IrreducibleBlocks(c.rowPtr, c.col) })
 	return c.order, c.start
 }
 
-// compactIndex returns the compact index of m, making it when m has none
-// or its RowPtr or Col arrays have been replaced since. It panics, through
-// krylov.NewCSRIndex, on a malformed pattern and on more than 2³¹−1
-// nonzeros.
-func (m *Matrix) compactIndex() *compactCSR {
-	c := m.compact.Load()
+// setBlocks records (order, start) as the irreducible blocks of m, which
+// IrreducibleBlocks then returns instead of searching them; the caller
+// vouches for them.
+func (m *Matrix) setBlocks(order, start []int) {
+	c := m.patternCache()
+	c.blocksOnce.Do(func() { c.order, c.start = order, start })
+}
+
+// patternCache returns the pattern cache of m, a new one when m has none
+// or its RowPtr or Col arrays have been replaced since.
+func (m *Matrix) patternCache() *patternCache {
+	c := m.pattern.Load()
 	if c != nil && c.matches(m) {
 		return c
 	}
-	c = &compactCSR{index: krylov.NewCSRIndex(m.RowPtr, m.Col)}
+	c = &patternCache{n: len(m.RowPtr) - 1, nnz: len(m.Col), rowPtr: m.RowPtr, col: m.Col}
 	if len(m.RowPtr) > 0 {
 		c.rowPtrSrc = &m.RowPtr[0]
 	}
 	if len(m.Col) > 0 {
 		c.colSrc = &m.Col[0]
 	}
-	m.compact.Store(c)
+	m.pattern.Store(c)
 	return c
 }
 
-func (c *compactCSR) matches(m *Matrix) bool {
-	if c.index.Dim() != len(m.RowPtr)-1 || c.index.NNZ() != len(m.Col) {
+func (c *patternCache) matches(m *Matrix) bool {
+	if c.n != len(m.RowPtr)-1 || c.nnz != len(m.Col) {
 		return false
 	}
 	return (len(m.RowPtr) == 0 || c.rowPtrSrc == &m.RowPtr[0]) && (len(m.Col) == 0 || c.colSrc == &m.Col[0])
 }
 
-// mulVec sets dst = A x, A the matrix of index c and values val
-// (krylov.CSRIndex.MulVec: in parallel, the same bytes whatever the number
-// of cores).
-func (c *compactCSR) mulVec(dst, x []float64, val []float64) { c.index.MulVec(dst, x, val) }
+// csr returns the compact index of the mat-vec, making it at the first
+// call. It panics, through krylov.NewCSRIndex, on a malformed pattern and
+// on more than 2³¹−1 nonzeros.
+func (c *patternCache) csr() *krylov.CSRIndex {
+	c.indexOnce.Do(func() { c.index = krylov.NewCSRIndex(c.rowPtr, c.col) })
+	return c.index
+}
 
 // Transpose returns Pᵀ as a new matrix (with the transposed derivative, if
 // any): its Apply is the transfer operator acting on cell masses.

@@ -3,8 +3,6 @@ package ulam
 import (
 	"fmt"
 	"slices"
-
-	"crosspec/ulam/krylov"
 )
 
 // Restriction says which cells of the grid a matrix keeps.
@@ -78,7 +76,7 @@ func (m *Matrix) Restrict(r Restriction, closed bool) *Matrix {
 			}
 		}
 	case RestrictCycles, RestrictRecurrent:
-		comp, count := components(m.RowPtr, m.Col)
+		comp, count := components(m)
 		// Components are numbered so that every edge between two runs
 		// from a higher number to a lower one.
 		nontrivial := make([]bool, count)
@@ -143,17 +141,52 @@ func (m *Matrix) Restrict(r Restriction, closed bool) *Matrix {
 	if len(keep) == n {
 		return m
 	}
-	return m.submatrix(keep)
+	sub := m.submatrix(keep)
+	if r == RestrictCycles || r == RestrictRecurrent {
+		// keep is a union of whole components, so they are the
+		// submatrix's irreducible blocks, in the same order: the
+		// eigen-solvers need not search them again.
+		order, start := m.IrreducibleBlocks()
+		sub.setBlocks(keptBlocks(order, start, keep, n))
+	}
+	return sub
 }
 
-// components labels the strongly connected components of the graph with
-// edges i → Col[k], k in [RowPtr[i], RowPtr[i+1]) (krylov.IrreducibleBlocks,
+// keptBlocks maps the irreducible blocks (order, start) of an n-row matrix
+// to its principal submatrix on keep, a union of whole blocks: the kept
+// blocks in their order, with the rows renumbered as in keep.
+func keptBlocks(order, start, keep []int, n int) (subOrder, subStart []int) {
+	newIndex := make([]int, n)
+	for i := range newIndex {
+		newIndex[i] = -1
+	}
+	for k, i := range keep {
+		newIndex[i] = k
+	}
+	subOrder = make([]int, 0, len(keep))
+	subStart = []int{0}
+	for b := range len(start) - 1 {
+		rows := order[start[b]:start[b+1]]
+		if newIndex[rows[0]] < 0 {
+			continue
+		}
+		for _, i := range rows {
+			subOrder = append(subOrder, newIndex[i])
+		}
+		subStart = append(subStart, len(subOrder))
+	}
+	return subOrder, subStart
+}
+
+// components labels the strongly connected components of the graph of m,
+// with edges i → Col[k], k in [RowPtr[i], RowPtr[i+1]) (its cached
+// IrreducibleBlocks, from krylov.IrreducibleBlocks,
 // Tarjan's algorithm without recursion, so that 10⁶-cell graphs do not
 // exhaust the goroutine stack), numbered so that every edge between two
 // components runs from a higher number to a lower one.
-func components(rowPtr, col []int) (comp []int, count int) {
-	n := len(rowPtr) - 1
-	order, start := krylov.IrreducibleBlocks(rowPtr, col)
+func components(m *Matrix) (comp []int, count int) {
+	n := m.Dim()
+	order, start := m.IrreducibleBlocks()
 	count = len(start) - 1
 	comp = make([]int, n)
 	for b := range count {

@@ -4,6 +4,7 @@ import (
 	"bufio"
 	"bytes"
 	"errors"
+	"fmt"
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
@@ -127,6 +128,82 @@ func TestLyapunovExact(t *testing.T) {
 			tol := (q+8)*eps + weights + pair.Condition*max(pair.RightResidual, pair.LeftResidual) + r.Residuals[0]
 			if got := r.Value; math.Abs(got/math.Ln2-1) > tol {
 				t.Errorf("%s, %d cells: Lyapunov exponent %.17g, want ln 2 within %.2g relative", name, n, got, tol)
+			}
+		}
+	}
+}
+
+// TestRestrictKeepsBlocks checks the irreducible blocks a restricted matrix
+// inherits from the full one against a fresh search of its own
+// (krylov.IrreducibleBlocks, Tarjan's algorithm): the same partition of
+// the rows, in an order that leaves the matrix block upper triangular
+// (P_ij ≠ 0 only from a block to itself or a later one).
+func TestRestrictKeepsBlocks(t *testing.T) {
+	// A matrix of two 2-cycles {0, 1} and {4, 5}, the first feeding the
+	// second directly and through the transient cells 2 and 3: the kept
+	// blocks have an entry between them, so their order matters.
+	chain := &Matrix{
+		RowPtr: []int{0, 2, 3, 4, 5, 6, 7},
+		Col:    []int{1, 4, 0, 3, 5, 5, 4},
+		Val:    []float64{0.5, 0.5, 1, 1, 1, 1, 1},
+		Cells:  []int{0, 1, 2, 3, 4, 5},
+	}
+	checkBlocks(t, "chain", chain, chain.Restrict(RestrictCycles, false))
+	cases := []struct {
+		system string
+		set    Settings
+	}{
+		{"logistic-repeller", Settings{Cells: 3000, Restrict: RestrictCycles}},
+		{"henon", Settings{Shape: []int{128, 128}, Restrict: RestrictRecurrent}},
+		{"henon", Settings{Shape: []int{128, 128}, Restrict: RestrictCycles}},
+	}
+	for _, c := range cases {
+		full := c.set
+		full.Restrict = RestrictNone
+		whole, err := Assemble(open(t, c.system), &full)
+		if err != nil {
+			t.Fatal(err)
+		}
+		checkBlocks(t, fmt.Sprintf("%s %v", c.system, c.set.Restrict), whole, whole.Restrict(c.set.Restrict, true))
+	}
+}
+
+// checkBlocks compares the blocks m inherits from whole with a fresh search.
+func checkBlocks(t *testing.T, name string, whole, m *Matrix) {
+	t.Helper()
+	if m.Dim() == whole.Dim() {
+		t.Fatalf("%s: nothing restricted, the case tests nothing", name)
+	}
+	order, start := m.IrreducibleBlocks()
+	fresh, freshStart := krylov.IrreducibleBlocks(m.RowPtr, m.Col)
+	blockOf := func(order, start []int) []int {
+		b := make([]int, m.Dim())
+		for k := range len(start) - 1 {
+			for _, i := range order[start[k]:start[k+1]] {
+				b[i] = k
+			}
+		}
+		return b
+	}
+	if len(start) != len(freshStart) || len(order) != m.Dim() {
+		t.Fatalf("%s: %d blocks over %d rows, want %d over %d", name, len(start)-1, len(order), len(freshStart)-1, m.Dim())
+	}
+	got, want := blockOf(order, start), blockOf(fresh, freshStart)
+	// Same partition: the block numbers of the two correspond one to one.
+	toFresh, toGot := map[int]int{}, map[int]int{}
+	for i := range m.Dim() {
+		if b, ok := toFresh[got[i]]; ok && b != want[i] {
+			t.Fatalf("%s: row %d splits inherited block %d", name, i, got[i])
+		}
+		if b, ok := toGot[want[i]]; ok && b != got[i] {
+			t.Fatalf("%s: row %d joins two inherited blocks", name, i)
+		}
+		toFresh[got[i]], toGot[want[i]] = want[i], got[i]
+	}
+	for i := range m.Dim() {
+		for _, j := range m.Col[m.RowPtr[i]:m.RowPtr[i+1]] {
+			if got[j] < got[i] {
+				t.Fatalf("%s: entry (%d, %d) runs from block %d back to block %d", name, i, j, got[i], got[j])
 			}
 		}
 	}
