@@ -278,7 +278,8 @@ func invariantDensityCheck(t *testing.T, name string, cells int, cdf func(float6
 // The shortfall is the method's, not this code's: an independent
 // construction of the N = 4096 matrix from the closed-form preimages
 // (1 ± √(1 − y))/2 with NumPy, its density by power iteration, agreed with
-// ours to 3e-12 relative, 3.47% off near x = 0.227 too (2026-12-02).
+// ours to 3e-12 relative, 3.47% off near x = 0.227 too (2026-12-02;
+// ulam/scripts/logistic4_density.py repeats it).
 func TestLogistic4(t *testing.T) {
 	if testing.Short() {
 		t.Skip("needs 2^18 cells")
