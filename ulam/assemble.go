@@ -101,7 +101,7 @@ func gridFor(sys *dynsys.System, set *Settings) (Grid, error) {
 		total *= float64(m)
 	}
 	if total > math.MaxInt32 {
-		return Grid{}, fmt.Errorf("%w: %v is %.3g cells", ErrTooLarge, shape, total)
+		return Grid{}, fmt.Errorf("%w: %v is %.3g cells, more than the 2³¹−1 the matrix indices hold", ErrTooLarge, shape, total)
 	}
 	return NewGrid(sys.Lo, sys.Hi, shape), nil
 }

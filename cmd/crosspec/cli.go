@@ -10,6 +10,7 @@ import (
 	"strings"
 
 	"crosspec/dynsys"
+	"crosspec/ulam"
 )
 
 // version is the program's version, printed by --version and written into
@@ -208,7 +209,9 @@ func (e *env) fail(err error) int {
 	fmt.Fprintf(e.stderr, "%s: %s\n", e.cmd, msg)
 	var ue *usageError
 	var fe *dynsys.Error
-	if errors.As(err, &ue) || errors.As(err, &fe) {
+	// A grid too large to index is a request out of range, not a failure
+	// of the computation.
+	if errors.As(err, &ue) || errors.As(err, &fe) || errors.Is(err, ulam.ErrTooLarge) {
 		return exitUsage
 	}
 	var ne *numericalError

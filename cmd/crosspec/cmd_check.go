@@ -324,7 +324,7 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 			if opts.progress {
 				fmt.Fprint(e.stderr, "\r\033[K")
 			}
-			return nil, &numericalError{fmt.Errorf("Ulam path, %s: %v", run.label(s), err)}
+			return nil, &numericalError{fmt.Errorf("Ulam path, %s: %w", run.label(s), err)}
 		}
 		r.ulamRuns = append(r.ulamRuns, newUlamRun(res, time.Since(t0).Seconds()))
 		r.ulamLast = res

@@ -235,6 +235,10 @@ func TestCheckGalerkin(t *testing.T) {
 	if code, _, stderr := runCLI("check", "doubling", "--methods", "galerkin"); code != exitUsage || !strings.Contains(stderr, "name at least two paths") {
 		t.Errorf("one method: exit %d, %q", code, stderr)
 	}
+	// A grid too large to index is refused before any run.
+	if code, stdout, stderr := runCLI("check", "tent", "--cells", "1024,100000000000"); code != exitUsage || stdout != "" || !strings.Contains(stderr, "--cells") {
+		t.Errorf("grid too large: exit %d, %q", code, stderr)
+	}
 }
 
 // TestCheckAdviceLongerCycles: the horseshoe's cycle expansion is still

@@ -211,6 +211,9 @@ func (r ulamRun) label(s *dynsys.System) string {
 
 // parseRuns reads --cells (a list of counts) or --grid (a list of shapes
 // M1xM2x…, one count a dimension).
+// maxCells is the largest grid the Ulam matrices index (32-bit indices).
+const maxCells = math.MaxInt32
+
 func parseRuns(cells, grids string, dim int) ([]ulamRun, error) {
 	var runs []ulamRun
 	if grids != "" {
@@ -220,12 +223,17 @@ func parseRuns(cells, grids string, dim int) ([]ulamRun, error) {
 				return nil, usagef("--grid %q: expected %d counts separated by x for a %d-dimensional system", g, dim, dim)
 			}
 			shape := make([]int, dim)
+			total := 1.0
 			for i, p := range parts {
 				m, err := strconv.Atoi(p)
 				if err != nil || m < 1 {
 					return nil, usagef("--grid %q: %q is not a positive count", g, p)
 				}
 				shape[i] = m
+				total *= float64(m)
+			}
+			if total > maxCells {
+				return nil, usagef("--grid %q: %.3g cells, more than the %d the matrix indices hold", g, total, maxCells)
 			}
 			runs = append(runs, ulamRun{shape: shape})
 		}
@@ -235,6 +243,9 @@ func parseRuns(cells, grids string, dim int) ([]ulamRun, error) {
 		n, err := strconv.Atoi(strings.TrimSpace(c))
 		if err != nil || n < 1 {
 			return nil, usagef("--cells %q: expected positive cell counts separated by commas", cells)
+		}
+		if n > maxCells {
+			return nil, usagef("--cells %q: %d cells, more than the %d the matrix indices hold", cells, n, maxCells)
 		}
 		runs = append(runs, ulamRun{cells: n})
 	}

@@ -79,6 +79,8 @@ func TestUlamErrors(t *testing.T) {
 	}{
 		{[]string{"ulam", "tent", "--cells", "x"}, exitUsage, "--cells"},
 		{[]string{"ulam", "henon", "--grid", "10"}, exitUsage, "--grid"},
+		{[]string{"ulam", "tent", "--cells", "100000000000"}, exitUsage, "matrix indices hold"},
+		{[]string{"ulam", "henon", "--grid", "100000x100000"}, exitUsage, "matrix indices hold"},
 		{[]string{"ulam", "tent", "--quantity", "entropy"}, exitUsage, "unknown quantity"},
 		{[]string{"ulam", "tent", "--format", "xml"}, exitUsage, "--format"},
 		{[]string{"ulam", "henon", "--quantity", "lyapunov"}, exitUsage, "1D maps only"},
