@@ -10,6 +10,7 @@ import (
 	"crosspec/cycles"
 	"crosspec/dynsys"
 	"crosspec/ulam"
+	"crosspec/ulam/galerkin"
 )
 
 // calibrationCase is one catalog system and quantity with a value known
@@ -22,25 +23,26 @@ type calibrationCase struct {
 	ulam     bool
 	cycles   bool
 	maxLen   int
+	galerkin bool // check's default Galerkin basis: degree 6 on 2, 4, …, 32 cells
 }
 
 // calibrationCases lists every catalog system and quantity with a known
 // value that a path can compute. The cycles path is left out where it
 // cannot run: the Gauss map has infinitely many laps (more symbols than a
 // cycle search takes) and the Hénon attractor's cycle expansion is not the
-// subject of a known value here.
+// subject of a known value here; the Galerkin bases are for 1D maps.
 var calibrationCases = []calibrationCase{
-	{system: "skew-tent-repeller", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 10},
-	{system: "cantor", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 10},
-	{system: "cantor", quantity: dynsys.Dimension, ulam: true, cycles: true, maxLen: 10},
-	{system: "doubling", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 10},
-	{system: "doubling", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 10},
-	{system: "tent", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 10},
-	{system: "tent", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 10},
-	{system: "logistic4", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 12},
-	{system: "logistic4", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 12},
-	{system: "gauss", quantity: dynsys.Lyapunov, ulam: true},
-	{system: "gauss", quantity: dynsys.Mean, ulam: true},
+	{system: "skew-tent-repeller", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 10, galerkin: true},
+	{system: "cantor", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 10, galerkin: true},
+	{system: "cantor", quantity: dynsys.Dimension, ulam: true, cycles: true, maxLen: 10, galerkin: true},
+	{system: "doubling", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 10, galerkin: true},
+	{system: "doubling", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 10, galerkin: true},
+	{system: "tent", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 10, galerkin: true},
+	{system: "tent", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 10, galerkin: true},
+	{system: "logistic4", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 12, galerkin: true},
+	{system: "logistic4", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 12, galerkin: true},
+	{system: "gauss", quantity: dynsys.Lyapunov, ulam: true, galerkin: true},
+	{system: "gauss", quantity: dynsys.Mean, ulam: true, galerkin: true},
 	{system: "henon", quantity: dynsys.Eigenvalues, ulam: true},
 }
 
@@ -55,8 +57,9 @@ func knownValue(t *testing.T, s *dynsys.System, c calibrationCase) (float64, str
 	return 0, ""
 }
 
-// TestCalibration runs both paths on every catalog system with a known
-// value and checks the error bars compare reports: each must contain the
+// TestCalibration runs the Ulam path, the Galerkin basis that check uses by
+// default and the cycle path on every catalog system with a known value
+// they apply to, and checks the error bars compare reports: each must contain the
 // true value and be at most compare.MaxOverstatement = 100 times the true
 // error (the true error floored at compare.TrueErrorFloor, since a path that
 // is exact to round-off cannot be asked for a bar of zero). The coverage
@@ -94,6 +97,21 @@ func TestCalibration(t *testing.T) {
 			}
 			est := compare.Ulam(runCells, values, nil)
 			cases = append(cases, compare.Case{Label: fmt.Sprintf("%s %s ulam (%s)", c.system, c.quantity, source), Truth: truth, Estimate: est})
+		}
+		if c.galerkin {
+			// As check runs it by default (--methods galerkin): the
+			// estimates over the doubling sizes analysed by step.
+			var steps []int
+			var values []float64
+			for i, n := range []int{2, 4, 8, 16, 32} {
+				res, err := galerkin.Compute(s, c.quantity, &galerkin.Settings{Basis: galerkin.Cells, Degree: 6, Cells: n}, nil)
+				if err != nil {
+					t.Fatalf("%s %s galerkin at %d cells: %v", c.system, c.quantity, n, err)
+				}
+				steps, values = append(steps, i+1), append(values, res.Value)
+			}
+			est := compare.Galerkin(steps, values, nil)
+			cases = append(cases, compare.Case{Label: fmt.Sprintf("%s %s galerkin (%s)", c.system, c.quantity, source), Truth: truth, Estimate: est})
 		}
 		if c.cycles {
 			found, err := cycles.Search(context.Background(), s, &cycles.SearchSettings{MaxLen: c.maxLen})
