@@ -144,6 +144,11 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 	}
 	ell := make([]float64, n)
 
+	// A lap end where |f'| one ulp inside is below sqrtEps times the
+	// lap's mean slope is a critical point (there |f'| ~ ε times the
+	// slope): 1/|f'| is unbounded and the basis does not apply.
+	const sqrtEps = 0x1p-26
+
 	// addLap adds scale times lap l's contributions to every row whose
 	// point lies in the lap's image.
 	addLap := func(l dynsys.Lap, scale, shift float64) error {
@@ -160,10 +165,26 @@ func AssembleChebyshev(sys *dynsys.System, settings *Settings) (*ChebyshevMatrix
 			if !ok {
 				return fmt.Errorf("galerkin: %s: no preimage of %g on the lap [%g, %g]", sys.Name, y, l.Lo, l.Hi)
 			}
-			w, obs := wt.at(x)
-			c := scale * w / math.Abs(sys.DF(x))
+			// At a lap end (the preimage of an end of the lap's image)
+			// f' and the weight are the lap's one-sided limits: taken one
+			// ulp inside, where a kink's formula (the tent map's
+			// abs(1 − 2x) at 1/2) already follows the lap's branch, while
+			// at a critical point f' is still at round-off. The basis
+			// functions are evaluated at x itself (which may be a node).
+			xd := x
+			if x <= l.Lo {
+				xd = math.Nextafter(l.Lo, l.Hi)
+			} else if x >= l.Hi {
+				xd = math.Nextafter(l.Hi, l.Lo)
+			}
+			df := sys.DF(xd)
+			if slope := math.Abs(l.FHi-l.FLo) / (l.Hi - l.Lo); !(math.Abs(df) > sqrtEps*slope) {
+				return fmt.Errorf("galerkin: %s: the Chebyshev basis needs |f'| > 0 at every preimage of the points, f'(%g) = %g (a critical point)", sys.Name, xd, df)
+			}
+			w, obs := wt.at(xd)
+			c := scale * w / math.Abs(df)
 			if math.IsNaN(c) || math.IsInf(c, 0) {
-				return fmt.Errorf("galerkin: %s: the Chebyshev basis needs |f'| > 0 at every preimage of the points, f'(%g) = %g", sys.Name, x, sys.DF(x))
+				return fmt.Errorf("galerkin: %s: weight %g at the preimage %g of a point", sys.Name, w, xd)
 			}
 			lagrangeTo(ell, pts, bw, x)
 			row := m.Val[i*n : (i+1)*n]

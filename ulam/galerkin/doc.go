@@ -76,7 +76,9 @@
 // eigenvector is the density, normalised by Clenshaw–Curtis quadrature.
 // Branches whose image ends inside the domain make L φ non-smooth there
 // and lose the geometric convergence; a critical point mapped into the
-// domain (f' = 0) is refused.
+// domain (f' = 0) is refused. At a lap end f' and the weight are the
+// lap's one-sided limits, so a kink between two analytic branches (the
+// tent map's 1/2) is no obstacle.
 //
 // # Laps accumulating at an end (the Gauss map)
 //

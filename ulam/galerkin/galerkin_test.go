@@ -7,9 +7,11 @@ import (
 	"math"
 	"math/cmplx"
 	"slices"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
+	"gonum.org/v1/gonum/mat"
 
 	"crosspec/cycles"
 	"crosspec/dynsys"
@@ -126,6 +128,80 @@ func TestSkewTent(t *testing.T) {
 		if want := -math.Log(0.75); !scalar.EqualWithinAbsOrRel(r.Value, want, 1e-12, 1e-12) {
 			t.Errorf("N=%d p=%d: escape rate %.16g, want %.16g", c.cells, c.degree, r.Value, want)
 		}
+	}
+}
+
+// TestChebyshevKink checks the global basis on the tent map 1 − |1 − 2x|,
+// two full linear branches meeting at the kink 1/2, which is the preimage
+// of the collocation point 1: there f' is the branch's own slope ±2, not
+// the 0 that the formula's abs gives at the kink. L φ(y) = [φ(y/2) +
+// φ(1 − y/2)]/2 maps (x − 1/2)^m to 2^(−m) (y − 1)^m for even m and to 0
+// for odd m, so on polynomials its eigenvalues are 4^(−k) and 0 (common
+// practice, no source), and the collocation, exact on polynomials of
+// degree < n, has them up to round-off. That round-off is amplified by the
+// eigenvalue's condition number κ_k = ‖x‖‖y‖/|yᵀx| (left and right
+// eigenvectors from gonum's mat.Eigen on the assembled matrix), large
+// here since the Lagrange basis is far from the monomial one in which A
+// is triangular: with rounding errors E of the entries and of the dense
+// solve, ‖E‖ ≤ nε‖A‖_F each (common practice, no source), the error is at
+// most 2nε‖A‖_F κ_k to first order. The Lyapunov exponent is ln 2. The
+// logistic map at 4, whose critical point 1/2 is the preimage of 1 too, is
+// refused.
+func TestChebyshevKink(t *testing.T) {
+	const eps = 0x1p-52
+	sys := lookup(t, "tent")
+	for _, n := range []int{8, 16} {
+		r, err := Compute(sys, dynsys.Eigenvalues, &Settings{Basis: Chebyshev, Size: n}, &ulam.SolveSettings{Eigenvalues: 4})
+		if err != nil {
+			t.Fatalf("n = %d: %v", n, err)
+		}
+		m, err := AssembleChebyshev(sys, &Settings{Basis: Chebyshev, Size: n})
+		if err != nil {
+			t.Fatal(err)
+		}
+		a := mat.NewDense(n, n, m.Val)
+		var eig mat.Eigen
+		if !eig.Factorize(a, mat.EigenBoth) {
+			t.Fatal("mat.Eigen failed")
+		}
+		values := eig.Values(nil)
+		var left, right mat.CDense
+		eig.LeftVectorsTo(&left)
+		eig.VectorsTo(&right)
+		for k, v := range r.Eigenvalues[:4] {
+			want := math.Pow(4, -float64(k))
+			// κ of the eigenvalue of the assembled matrix nearest want.
+			j := 0
+			for i, w := range values {
+				if cmplx.Abs(w-complex(want, 0)) < cmplx.Abs(values[j]-complex(want, 0)) {
+					j = i
+				}
+			}
+			var xx, yy float64
+			var yx complex128
+			for i := range n {
+				x, y := right.At(i, j), left.At(i, j)
+				xx += real(x * cmplx.Conj(x))
+				yy += real(y * cmplx.Conj(y))
+				yx += cmplx.Conj(y) * x
+			}
+			kappa := math.Sqrt(xx*yy) / cmplx.Abs(yx)
+			tol := 2 * float64(n) * eps * mat.Norm(a, 2) * kappa
+			if err := cmplx.Abs(v - complex(want, 0)); err > tol {
+				t.Errorf("n = %d: λ_%d = %v, want %v within %.2g (condition %.3g)", n, k, v, want, tol, kappa)
+			}
+		}
+		r, err = Compute(sys, dynsys.Lyapunov, &Settings{Basis: Chebyshev, Size: n}, nil)
+		if err != nil {
+			t.Fatalf("n = %d: %v", n, err)
+		}
+		if !scalar.EqualWithinAbsOrRel(r.Value, math.Ln2, 1e-12, 1e-12) {
+			t.Errorf("n = %d: Lyapunov exponent %.17g, want ln 2", n, r.Value)
+		}
+	}
+	_, err := Compute(lookup(t, "logistic4"), dynsys.Eigenvalues, &Settings{Basis: Chebyshev, Size: 8}, nil)
+	if err == nil || !strings.Contains(err.Error(), "critical point") {
+		t.Errorf("logistic map at 4: error %v, want the critical point refused", err)
 	}
 }
 
