@@ -1,10 +1,13 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"flag"
 	"fmt"
 	"io"
+	"os"
+	"os/signal"
 	"sort"
 	"strconv"
 	"strings"
@@ -219,6 +222,57 @@ func (e *env) fail(err error) int {
 		return exitNumerical
 	}
 	return exitUsage
+}
+
+// interruptContext returns a context that the first Ctrl-C (SIGINT)
+// cancels: the command then starts no new work and reports what it has
+// finished. The signal's default action comes back at that moment, so a
+// second Ctrl-C ends the process at once. Call stop when done.
+func interruptContext() (ctx context.Context, stop context.CancelFunc) {
+	ctx, stop = signal.NotifyContext(context.Background(), os.Interrupt)
+	go func() {
+		<-ctx.Done()
+		stop()
+	}()
+	return ctx, stop
+}
+
+// errStopped is what whileRunning returns for work that Ctrl-C cut short.
+var errStopped = errors.New("stopped by Ctrl-C")
+
+// whileRunning runs work and returns its results, or errStopped as soon as
+// ctx is cancelled. The work is then abandoned: it goes on in the
+// background until the process, which is about to report what it finished
+// and exit, ends. For computations that take no context (a Ulam grid).
+func whileRunning[T any](ctx context.Context, work func() (T, error)) (T, error) {
+	var zero T
+	if ctx.Err() != nil {
+		return zero, errStopped
+	}
+	type outcome struct {
+		res T
+		err error
+	}
+	done := make(chan outcome, 1)
+	go func() {
+		r, err := work()
+		done <- outcome{r, err}
+	}()
+	select {
+	case o := <-done:
+		return o.res, o.err
+	case <-ctx.Done():
+		return zero, errStopped
+	}
+}
+
+// interruptedError reports work cut short by Ctrl-C (exit code 1), after
+// the report of what was finished when there is any.
+func interruptedError(where string, reported bool) error {
+	if reported {
+		return &numericalError{fmt.Errorf("interrupted (Ctrl-C) %s: the report above holds only the work finished before", where)}
+	}
+	return &numericalError{fmt.Errorf("interrupted (Ctrl-C) %s, before any result", where)}
 }
 
 // numericalError marks a failure of a computation (exit code 1).

@@ -2,12 +2,12 @@ package main
 
 import (
 	"context"
+	"errors"
 	"flag"
 	"fmt"
 	"io"
 	"math"
 	"os"
-	"os/signal"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -120,7 +120,7 @@ reproduce the run.`,
 			opts.points = *points
 			opts.format = *format
 			opts.progress = !*quiet && isTerminal(e.stderr)
-			ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+			ctx, stop := interruptContext()
 			defer stop()
 			return runCheckCommand(ctx, e, s, opts, append([]string{"crosspec", "check"}, args...))
 		}
@@ -224,18 +224,21 @@ func defaultCells(s *dynsys.System, cells string) string {
 
 // checkResult is the outcome of both paths and their comparison.
 type checkResult struct {
-	system     *dynsys.System
-	opts       checkOptions
-	ulamRuns   []ulamRunJSON
-	ulamStop   string // why the default grids stopped early
-	ulamLast   ulam.Result
-	ulamEst    compare.Estimate
-	expansion  cycles.QuantityResult
-	info       cycleInfo
-	cyclesEst  compare.Estimate
-	comparison compare.Comparison
-	advice     compare.Advice
-	seconds    map[string]float64
+	system   *dynsys.System
+	opts     checkOptions
+	ulamRuns []ulamRunJSON
+	ulamStop string // why the default grids stopped early
+	// interrupted says where Ctrl-C cut the run short ("" when it did
+	// not): the report holds the work finished before.
+	interrupted string
+	ulamLast    ulam.Result
+	ulamEst     compare.Estimate
+	expansion   cycles.QuantityResult
+	info        cycleInfo
+	cyclesEst   compare.Estimate
+	comparison  compare.Comparison
+	advice      compare.Advice
+	seconds     map[string]float64
 
 	// The higher-order basis, when --methods names galerkin.
 	galerkinRuns       []ulamRunJSON
@@ -303,8 +306,9 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 		runs = nil
 	}
 	for i, run := range runs {
-		if err := ctx.Err(); err != nil {
-			return nil, &numericalError{fmt.Errorf("interrupted during the Ulam runs")}
+		if ctx.Err() != nil {
+			r.interrupted = "before the Ulam run on " + run.label(s)
+			break
 		}
 		if k := len(r.ulamRuns); opts.nnzBudget > 0 && k >= 2 {
 			// The nonzeros grow by about the same factor from grid to grid.
@@ -319,7 +323,13 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 			fmt.Fprintf(e.stderr, "\rUlam: %s (%d of %d)\033[K", run.label(s), i+1, len(opts.runs))
 		}
 		t0 := time.Now()
-		res, err := ulam.Compute(s, opts.quantity, &ulam.Settings{Cells: run.cells, Shape: run.shape, Points: opts.points, Beta: opts.beta}, solve)
+		res, err := whileRunning(ctx, func() (ulam.Result, error) {
+			return ulam.Compute(s, opts.quantity, &ulam.Settings{Cells: run.cells, Shape: run.shape, Points: opts.points, Beta: opts.beta}, solve)
+		})
+		if errors.Is(err, errStopped) {
+			r.interrupted = "during the Ulam run on " + run.label(s)
+			break
+		}
 		if err != nil {
 			if opts.progress {
 				fmt.Fprint(e.stderr, "\r\033[K")
@@ -334,14 +344,18 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 	}
 	r.seconds["ulam"] = time.Since(start).Seconds()
 
-	if opts.methods["galerkin"] {
+	if opts.methods["galerkin"] && r.interrupted == "" {
 		start = time.Now()
 		gsolve := &ulam.SolveSettings{Eigenvalues: solve.Eigenvalues}
 		for i, size := range opts.galerkinSizes {
 			if opts.progress {
 				fmt.Fprintf(e.stderr, "\r%s: size %d (%d of %d)\033[K", opts.disc, size, i+1, len(opts.galerkinSizes))
 			}
-			run, res, err := runGalerkin(s, opts.quantity, opts.disc, size, opts.beta, gsolve)
+			run, res, err := runGalerkinUntil(ctx, s, opts.quantity, opts.disc, size, opts.beta, gsolve)
+			if errors.Is(err, errStopped) {
+				r.interrupted = fmt.Sprintf("during the Galerkin run of size %d", size)
+				break
+			}
 			if err != nil {
 				return nil, err
 			}
@@ -359,15 +373,25 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 		return r, nil
 	}
 
-	start = time.Now()
-	expandOpts := opts.expand
-	expandOpts.quantity, expandOpts.beta, expandOpts.eigs, expandOpts.progress = opts.quantity, opts.beta, opts.eigs, opts.progress
-	res, info, err := runExpansion(ctx, e, s, expandOpts)
-	if err != nil {
-		return nil, err
+	if r.interrupted == "" {
+		start = time.Now()
+		expandOpts := opts.expand
+		expandOpts.quantity, expandOpts.beta, expandOpts.eigs, expandOpts.progress = opts.quantity, opts.beta, opts.eigs, opts.progress
+		res, info, err := runExpansion(ctx, e, s, expandOpts)
+		if info.interruptedAt > 0 {
+			// The lengths searched in full are expanded; with none,
+			// the cycle path has no estimate.
+			r.interrupted = info.interruptedWhere()
+			if info.interruptedAt == 1 {
+				err = nil
+			}
+		}
+		if err != nil {
+			return nil, err
+		}
+		r.expansion, r.info = res, info
+		r.seconds["cycles"] = time.Since(start).Seconds()
 	}
-	r.expansion, r.info = res, info
-	r.seconds["cycles"] = time.Since(start).Seconds()
 
 	cells, ulamValues := r.ulamValues()
 	orders, cycleValues, cycleFloors := r.cycleValues()
@@ -468,6 +492,9 @@ func runCheckCommand(ctx context.Context, e *env, s *dynsys.System, opts checkOp
 	if err != nil {
 		return e.fail(err)
 	}
+	if r.interrupted != "" && len(r.ulamRuns) == 0 && len(r.galerkinRuns) == 0 && len(r.expansion.Orders) == 0 {
+		return e.fail(interruptedError(r.interrupted, false))
+	}
 	r.seconds["total"] = time.Since(start).Seconds()
 	if err := r.write(e.stdout, opts.format); err != nil {
 		return e.fail(err)
@@ -485,6 +512,9 @@ func runCheckCommand(ctx context.Context, e *env, s *dynsys.System, opts checkOp
 		if opts.format == formatTable {
 			fmt.Fprintf(e.stdout, "wrote %s\n", strings.Join(files, ", "))
 		}
+	}
+	if r.interrupted != "" {
+		return e.fail(interruptedError(r.interrupted, true))
 	}
 	return exitOK
 }
@@ -596,6 +626,19 @@ func comparisonLines(title string, c compare.Comparison) []string {
 }
 
 func (r *checkResult) verdictLines() []string {
+	return append(r.interruptedLines(), r.pathLines()...)
+}
+
+// interruptedLines heads the verdict of a run that Ctrl-C cut short.
+func (r *checkResult) interruptedLines() []string {
+	if r.interrupted == "" {
+		return nil
+	}
+	return []string{fmt.Sprintf("interrupted (Ctrl-C) %s: partial results, from the work finished before", r.interrupted)}
+}
+
+// pathLines are the verdicts, the advice and the warnings.
+func (r *checkResult) pathLines() []string {
 	if !r.cyclesRun() {
 		lines := comparisonLines("verdict, Ulam against Galerkin", r.comparison)
 		if a := r.advice; a.CellsNeeded > 0 && !math.IsInf(a.CellsNeeded, 0) {
@@ -668,6 +711,8 @@ type jsonCheck struct {
 	Tol         float64            `json:"tol"`
 	Seconds     map[string]float64 `json:"seconds"`
 	Galerkin    *jsonCheckGalerkin `json:"galerkin,omitempty"`
+	// Interrupted says where Ctrl-C cut the run short; absent otherwise.
+	Interrupted string `json:"interrupted,omitempty"`
 }
 
 type jsonCheckUlam struct {
@@ -716,7 +761,7 @@ func (r *checkResult) json() jsonCheck {
 			Reason: r.cyclesEst.Reason, RecommendedMaxLen: r.advice.CycleLength, Source: r.info.status},
 		Agree: r.comparison.Verdict == compare.Agree, Verdict: r.comparison.Verdict.String(),
 		Discrepancy: jsonFloat(r.comparison.Discrepancy), Reasons: r.comparison.Reasons,
-		CellsNeeded: jsonFloat(r.advice.CellsNeeded), Tol: r.opts.tol, Seconds: r.seconds,
+		CellsNeeded: jsonFloat(r.advice.CellsNeeded), Tol: r.opts.tol, Seconds: r.seconds, Interrupted: r.interrupted,
 	}
 	if doc.Reasons == nil {
 		doc.Reasons = []string{}
@@ -928,6 +973,7 @@ func (r *checkResult) writeAll(dir string, command []string) ([]string, error) {
 	} else {
 		m.Notes = append(m.Notes, cyclesNotRun)
 	}
+	m.Notes = append(m.Notes, r.interruptedLines()...)
 	var methods []string
 	for _, name := range []string{"ulam", "galerkin", "cycles"} {
 		if r.opts.methods[name] {

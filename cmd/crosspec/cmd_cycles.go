@@ -7,7 +7,6 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"os/signal"
 	"strconv"
 	"strings"
 
@@ -103,7 +102,7 @@ parameters or length, is refused (exit code 2).`,
 			if *resume && *out == "" {
 				return e.fail(usagef("--resume needs -o FILE, the file to continue"))
 			}
-			ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+			ctx, stop := interruptContext()
 			defer stop()
 			return runCycleSearch(ctx, e, s, cycleRun{maxLen: *maxLen, out: *out, resume: *resume, format: *format,
 				progress: !*quiet && isTerminal(e.stderr), shard: part, shards: parts})

@@ -1,11 +1,8 @@
 package main
 
 import (
-	"context"
 	"flag"
 	"fmt"
-	"os"
-	"os/signal"
 
 	"crosspec/compare"
 	"crosspec/cycles"
@@ -62,7 +59,7 @@ into the folder --out (default crosspec-demo).`,
 				outDir:        *out,
 				progress:      !*quiet && isTerminal(e.stderr),
 			}
-			ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+			ctx, stop := interruptContext()
 			defer stop()
 			return runCheckCommand(ctx, e, s, opts, []string{"crosspec", "demo", "--out", *out})
 		}

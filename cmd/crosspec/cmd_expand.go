@@ -8,7 +8,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"os/signal"
 	"strconv"
 	"strings"
 
@@ -68,7 +67,7 @@ uniformly hyperbolic).`,
 				return e.fail(err)
 			}
 			opts.progress = !*quiet && isTerminal(e.stderr)
-			ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+			ctx, stop := interruptContext()
 			defer stop()
 			if *betas != "" {
 				return runPressureCurve(ctx, e, s, opts, *betas, *format)
@@ -80,7 +79,7 @@ uniformly hyperbolic).`,
 			if err := writeExpansionReport(e.stdout, s, opts, res, info, *format); err != nil {
 				return e.fail(err)
 			}
-			return exitOK
+			return info.exitCode(e)
 		}
 	},
 }
@@ -95,6 +94,9 @@ type expandOptions struct {
 	eigs      int
 	function  cycles.Function
 	progress  bool
+	// stopAfter, when positive, cancels the cycle search once that
+	// length is complete (tests simulate a Ctrl-C with it).
+	stopAfter int
 }
 
 // cycleInfo says where the cycles came from.
@@ -104,6 +106,9 @@ type cycleInfo struct {
 	notes    []string
 	rejected int
 	seconds  float64
+	// interruptedAt is the length whose search Ctrl-C cut short (0 when
+	// none was): only the shorter lengths are expanded.
+	interruptedAt int
 }
 
 func parseExpansion(name string) (cycles.Function, error) {
@@ -176,6 +181,17 @@ func obtainCycles(ctx context.Context, e *env, s *dynsys.System, opts expandOpti
 		return kept, info, nil
 	}
 	settings := &cycles.SearchSettings{MaxLen: opts.maxLen}
+	if opts.stopAfter > 0 {
+		var cancel context.CancelFunc
+		ctx, cancel = context.WithCancel(ctx)
+		defer cancel()
+		settings.Found = func(length int, _ []cycles.Cycle) error {
+			if length >= opts.stopAfter {
+				cancel()
+			}
+			return nil
+		}
+	}
 	if opts.progress {
 		settings.Progress = func(length int, fraction float64) {
 			fmt.Fprintf(e.stderr, "\rcycle search: length %d of %d: %3.0f%%", length, opts.maxLen, 100*fraction)
@@ -192,7 +208,19 @@ func obtainCycles(ctx context.Context, e *env, s *dynsys.System, opts expandOpti
 		return nil, info, err
 	}
 	if res.Status == cycles.SearchInterrupted {
-		return nil, info, &numericalError{fmt.Errorf("cycle search interrupted during length %d", len(res.Counts)+1)}
+		// The lengths completed before stand on their own.
+		done := len(res.Counts)
+		info.interruptedAt = done + 1
+		if done == 0 {
+			return nil, info, interruptedError("during the cycle search at length 1", false)
+		}
+		kept := res.Cycles[:0:0]
+		for _, c := range res.Cycles {
+			if c.Len <= done {
+				kept = append(kept, c)
+			}
+		}
+		res.Cycles = kept
 	}
 	info.status = "search " + res.Status.String()
 	for _, c := range res.Counts {
@@ -202,6 +230,32 @@ func obtainCycles(ctx context.Context, e *env, s *dynsys.System, opts expandOpti
 	}
 	info.counts = countByLength(res.Cycles, opts.maxLen)
 	return res.Cycles, info, nil
+}
+
+// interruptedWhere says where Ctrl-C cut the search short, "" if nowhere.
+func (info cycleInfo) interruptedWhere() string {
+	if info.interruptedAt == 0 {
+		return ""
+	}
+	return fmt.Sprintf("during the cycle search at length %d", info.interruptedAt)
+}
+
+// exitCode is exitOK, or, after a report cut short by Ctrl-C, the
+// interruption's message and exitNumerical.
+func (info cycleInfo) exitCode(e *env) int {
+	if where := info.interruptedWhere(); where != "" {
+		return e.fail(interruptedError(where, true))
+	}
+	return exitOK
+}
+
+// expandedLen is the longest length expanded: maxLen, or the last length
+// searched in full before an interruption.
+func (info cycleInfo) expandedLen(maxLen int) int {
+	if info.interruptedAt > 0 {
+		return min(maxLen, info.interruptedAt-1)
+	}
+	return maxLen
 }
 
 func countByLength(cs []cycles.Cycle, maxLen int) []int {
@@ -223,7 +277,7 @@ func runExpansion(ctx context.Context, e *env, s *dynsys.System, opts expandOpti
 	if err != nil {
 		return cycles.QuantityResult{}, info, err
 	}
-	res, err := cycles.Expand(cs, opts.quantity, &cycles.Settings{MaxLen: opts.maxLen, Beta: opts.beta, Function: opts.function, Eigs: opts.eigs})
+	res, err := cycles.Expand(cs, opts.quantity, &cycles.Settings{MaxLen: info.expandedLen(opts.maxLen), Beta: opts.beta, Function: opts.function, Eigs: opts.eigs})
 	if err != nil {
 		if errors.Is(err, cycles.ErrNotOneDimensional) {
 			return res, info, usagef("%v", err)
@@ -287,6 +341,8 @@ type jsonExpansion struct {
 	Eigenvalues []jsonEigenvalue `json:"leading_eigenvalues,omitempty"`
 	Cycles      string           `json:"cycle_source"`
 	Warnings    []string         `json:"warnings,omitempty"`
+	// Interrupted says where Ctrl-C cut the cycle search short.
+	Interrupted string `json:"interrupted,omitempty"`
 }
 
 // maxReported caps the eigenvalues printed per order.
@@ -313,6 +369,9 @@ func expansionWarnings(res cycles.QuantityResult, info cycleInfo) []string {
 		// The values' own changes stalled (with the coefficients'
 		// stall, the warning above says why).
 		out = append(out, "the estimates stopped improving above the round-off floor (stalled)")
+	}
+	if info.interruptedAt > 0 {
+		out = append(out, fmt.Sprintf("the cycle search was interrupted (Ctrl-C) during length %d: the expansion stops at length %d", info.interruptedAt, info.interruptedAt-1))
 	}
 	out = append(out, info.notes...)
 	if info.rejected > 0 {
@@ -361,7 +420,7 @@ func writeExpansionReport(w io.Writer, s *dynsys.System, opts expandOptions, res
 	if format == formatJSON {
 		doc := jsonExpansion{System: s.Name, Quantity: string(opts.quantity), Beta: res.Beta, Expansion: expansionName(opts.function),
 			Estimate: jsonFloat(res.Estimate.Value), Error: jsonFloat(res.Estimate.Error), Status: res.Estimate.Status.String(),
-			Length: res.Estimate.Len, Cycles: info.status, Warnings: warnings}
+			Length: res.Estimate.Len, Cycles: info.status, Warnings: warnings, Interrupted: info.interruptedWhere()}
 		cum := 0
 		for _, o := range res.Orders {
 			for n := len(doc.Orders) + 1; n <= o.MaxLen && n < len(info.counts); n++ {
@@ -448,7 +507,8 @@ func runPressureCurve(ctx context.Context, e *env, s *dynsys.System, opts expand
 	if err != nil {
 		return e.fail(err)
 	}
-	curve, err := cycles.LeadingCurve(cs, betas, &cycles.Settings{MaxLen: opts.maxLen, Function: opts.function, Sum: sum})
+	maxLen := info.expandedLen(opts.maxLen)
+	curve, err := cycles.LeadingCurve(cs, betas, &cycles.Settings{MaxLen: maxLen, Function: opts.function, Sum: sum})
 	if err != nil {
 		return e.fail(&numericalError{err})
 	}
@@ -464,14 +524,14 @@ func runPressureCurve(ctx context.Context, e *env, s *dynsys.System, opts expand
 			Weight string  `json:"weight"`
 			MaxLen int     `json:"max_len"`
 			Points []point `json:"points"`
-		}{System: s.Name, Weight: sum.String(), MaxLen: opts.maxLen}
+		}{System: s.Name, Weight: sum.String(), MaxLen: maxLen}
 		for _, p := range curve {
 			doc.Points = append(doc.Points, point{p.Beta, p.Leading, p.Pressure, jsonFloat(p.Floor)})
 		}
 		if err := writeJSON(e.stdout, doc); err != nil {
 			return e.fail(err)
 		}
-		return exitOK
+		return info.exitCode(e)
 	}
 	g := &grid{header: []string{"β", "λ0(β)", "P(β) = ln λ0", "round-off floor"}}
 	for _, p := range curve {
@@ -481,7 +541,7 @@ func runPressureCurve(ctx context.Context, e *env, s *dynsys.System, opts expand
 		return e.fail(err)
 	}
 	if format == formatTable {
-		fmt.Fprintf(e.stdout, "%s: leading eigenvalue followed continuously in β, weight exp(β·%s), cycles to length %d (%s)\n", s.Name, sum, opts.maxLen, info.status)
+		fmt.Fprintf(e.stdout, "%s: leading eigenvalue followed continuously in β, weight exp(β·%s), cycles to length %d (%s)\n", s.Name, sum, maxLen, info.status)
 	}
-	return exitOK
+	return info.exitCode(e)
 }

@@ -2,6 +2,7 @@ package main
 
 import (
 	"bufio"
+	"errors"
 	"flag"
 	"fmt"
 	"math"
@@ -92,6 +93,24 @@ transfer operator acting on densities is its transpose.`,
 			}
 			progress := !*quiet && isTerminal(e.stderr)
 			report := ulamReport{System: s.Name, Quantity: string(q), Beta: *beta}
+			ctx, stop := interruptContext()
+			defer stop()
+			// interrupted reports what Ctrl-C cut short: the grids
+			// finished before, without the files of the last grid.
+			interrupted := func(label string) int {
+				where := "during the run on " + label
+				if len(report.Runs) == 0 {
+					return e.fail(interruptedError(where, false))
+				}
+				report.Interrupted = where
+				if *export != "" || *density != "" {
+					where += " (so --export and --density, of the last grid, were not written)"
+				}
+				if code := writeUlamReport(e, report, *format, *eigs); code != exitOK {
+					return code
+				}
+				return e.fail(interruptedError(where, true))
+			}
 			if !disc.plain() {
 				if *export != "" || *grids != "" {
 					return e.fail(usagef("--export and --grid apply to the plain Ulam matrix (--degree 0, --basis cells)"))
@@ -100,7 +119,10 @@ transfer operator acting on densities is its transpose.`,
 				var last galerkin.Result
 				for i, r := range runs {
 					sv := &ulam.SolveSettings{Eigenvalues: *eigs, Tol: *tol, Density: *density != "" && i == len(runs)-1}
-					run, res, err := runGalerkin(s, q, disc, r.cells, *beta, sv)
+					run, res, err := runGalerkinUntil(ctx, s, q, disc, r.cells, *beta, sv)
+					if errors.Is(err, errStopped) {
+						return interrupted(fmt.Sprintf("size %d", r.cells))
+					}
 					if err != nil {
 						return e.fail(err)
 					}
@@ -122,10 +144,13 @@ transfer operator acting on densities is its transpose.`,
 					fmt.Fprintf(e.stderr, "%s: grid %s ...", e.cmd, r.label(s))
 				}
 				start := time.Now()
-				res, err := ulam.Compute(s, q, set, sv)
+				res, err := whileRunning(ctx, func() (ulam.Result, error) { return ulam.Compute(s, q, set, sv) })
 				elapsed := time.Since(start).Seconds()
 				if progress {
 					fmt.Fprintf(e.stderr, " %.3g s\n", elapsed)
+				}
+				if errors.Is(err, errStopped) {
+					return interrupted(r.label(s))
 				}
 				if err != nil {
 					return e.fail(&numericalError{err})
@@ -209,11 +234,11 @@ func (r ulamRun) label(s *dynsys.System) string {
 	return strings.Join(parts, "x")
 }
 
-// parseRuns reads --cells (a list of counts) or --grid (a list of shapes
-// M1xM2x…, one count a dimension).
 // maxCells is the largest grid the Ulam matrices index (32-bit indices).
 const maxCells = math.MaxInt32
 
+// parseRuns reads --cells (a list of counts) or --grid (a list of shapes
+// M1xM2x…, one count a dimension).
 func parseRuns(cells, grids string, dim int) ([]ulamRun, error) {
 	var runs []ulamRun
 	if grids != "" {
@@ -259,6 +284,8 @@ type ulamReport struct {
 	Basis    string        `json:"basis,omitempty"`
 	Beta     float64       `json:"beta"`
 	Runs     []ulamRunJSON `json:"runs"`
+	// Interrupted says where Ctrl-C cut the run short; absent otherwise.
+	Interrupted string `json:"interrupted,omitempty"`
 }
 
 type ulamRunJSON struct {

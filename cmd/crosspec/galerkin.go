@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"fmt"
 	"time"
 
@@ -64,4 +65,18 @@ func runGalerkin(s *dynsys.System, q dynsys.Quantity, d discretization, size int
 		run.Eigenvalues = append(run.Eigenvalues, jsonComplex{real(z), imag(z)})
 	}
 	return run, res, nil
+}
+
+// runGalerkinUntil is runGalerkin that returns errStopped at once when ctx
+// is cancelled (Ctrl-C).
+func runGalerkinUntil(ctx context.Context, s *dynsys.System, q dynsys.Quantity, d discretization, size int, beta float64, solve *ulam.SolveSettings) (ulamRunJSON, galerkin.Result, error) {
+	type outcome struct {
+		run ulamRunJSON
+		res galerkin.Result
+	}
+	o, err := whileRunning(ctx, func() (outcome, error) {
+		run, res, err := runGalerkin(s, q, d, size, beta, solve)
+		return outcome{run, res}, err
+	})
+	return o.run, o.res, err
 }
