@@ -713,6 +713,8 @@ type jsonCheck struct {
 	Galerkin    *jsonCheckGalerkin `json:"galerkin,omitempty"`
 	// Interrupted says where Ctrl-C cut the run short; absent otherwise.
 	Interrupted string `json:"interrupted,omitempty"`
+	// Note is estimatesNote: how to take the error bars.
+	Note string `json:"note"`
 }
 
 type jsonCheckUlam struct {
@@ -762,6 +764,7 @@ func (r *checkResult) json() jsonCheck {
 		Agree: r.comparison.Verdict == compare.Agree, Verdict: r.comparison.Verdict.String(),
 		Discrepancy: jsonFloat(r.comparison.Discrepancy), Reasons: r.comparison.Reasons,
 		CellsNeeded: jsonFloat(r.advice.CellsNeeded), Tol: r.opts.tol, Seconds: r.seconds, Interrupted: r.interrupted,
+		Note: estimatesNote,
 	}
 	if doc.Reasons == nil {
 		doc.Reasons = []string{}
@@ -821,21 +824,7 @@ func (r *checkResult) write(w io.Writer, format string) error {
 	if err := r.summaryGrid().render(w, format); err != nil {
 		return err
 	}
-	prefix := ""
-	switch format {
-	case formatLaTeX:
-		prefix = "% "
-	case formatCSV:
-		return nil
-	case formatMarkdown:
-		fmt.Fprintln(w)
-	}
-	for _, line := range r.verdictLines() {
-		fmt.Fprintln(w, prefix+line)
-	}
-	if format == formatTable {
-		fmt.Fprintln(w, "Error bars are estimates from the observed convergence, not rigorous bounds.")
-	}
+	writeNotes(w, format, r.verdictLines())
 	return nil
 }
 

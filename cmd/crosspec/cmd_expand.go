@@ -343,6 +343,8 @@ type jsonExpansion struct {
 	Warnings    []string         `json:"warnings,omitempty"`
 	// Interrupted says where Ctrl-C cut the cycle search short.
 	Interrupted string `json:"interrupted,omitempty"`
+	// Note is estimatesNote: how to take the error bars.
+	Note string `json:"note"`
 }
 
 // maxReported caps the eigenvalues printed per order.
@@ -420,7 +422,7 @@ func writeExpansionReport(w io.Writer, s *dynsys.System, opts expandOptions, res
 	if format == formatJSON {
 		doc := jsonExpansion{System: s.Name, Quantity: string(opts.quantity), Beta: res.Beta, Expansion: expansionName(opts.function),
 			Estimate: jsonFloat(res.Estimate.Value), Error: jsonFloat(res.Estimate.Error), Status: res.Estimate.Status.String(),
-			Length: res.Estimate.Len, Cycles: info.status, Warnings: warnings, Interrupted: info.interruptedWhere()}
+			Length: res.Estimate.Len, Cycles: info.status, Warnings: warnings, Interrupted: info.interruptedWhere(), Note: estimatesNote}
 		cum := 0
 		for _, o := range res.Orders {
 			for n := len(doc.Orders) + 1; n <= o.MaxLen && n < len(info.counts); n++ {
@@ -467,19 +469,16 @@ func writeExpansionReport(w io.Writer, s *dynsys.System, opts expandOptions, res
 	if err := g.render(w, format); err != nil {
 		return err
 	}
-	if format != formatTable {
-		return nil
-	}
 	est := res.Estimate
-	fmt.Fprintf(w, "%s of %s from cycles (%s, %s): %s ± %s, taken at length %d (%s)\n", opts.quantity, s.Name,
-		expansionName(opts.function), info.status, formatValue(est.Value), formatSmall(est.Error), est.Len, est.Status)
+	lines := []string{fmt.Sprintf("%s of %s from cycles (%s, %s): %s ± %s, taken at length %d (%s)", opts.quantity, s.Name,
+		expansionName(opts.function), info.status, formatValue(est.Value), formatSmall(est.Error), est.Len, est.Status)}
 	for k, ev := range res.Eigenvalues {
-		fmt.Fprintf(w, "  λ%d = %s ± %s at length %d (%s)\n", k, complexText(ev.Value), formatSmall(ev.Error), ev.Len, ev.Status)
+		lines = append(lines, fmt.Sprintf("  λ%d = %s ± %s at length %d (%s)", k, complexText(ev.Value), formatSmall(ev.Error), ev.Len, ev.Status))
 	}
 	for _, warn := range warnings {
-		fmt.Fprintf(w, "warning: %s\n", warn)
+		lines = append(lines, "warning: "+warn)
 	}
-	fmt.Fprintln(w, "Error bars are estimates from the observed convergence, not rigorous bounds.")
+	writeNotes(w, format, lines)
 	return nil
 }
 

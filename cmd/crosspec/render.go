@@ -117,6 +117,37 @@ func (g *grid) renderLaTeX(w io.Writer) error {
 }
 
 // writeJSON writes v as one indented JSON document.
+// estimatesNote ends every report with error bars: how to take them.
+const estimatesNote = "Error bars are estimates from the observed convergence, not rigorous bounds; value(error) gives the error in the last digits shown: 1.234(5) is 1.234 ± 0.005."
+
+// writeNotes writes the lines under a report's tables, then estimatesNote:
+// as they are in a table, as a Markdown list (a line indented by two
+// spaces nested under the one before), as LaTeX comments; nothing in CSV.
+func writeNotes(w io.Writer, format string, lines []string) {
+	lines = append(lines, estimatesNote)
+	switch format {
+	case formatCSV:
+		return
+	case formatLaTeX:
+		for _, l := range lines {
+			fmt.Fprintln(w, "% "+l)
+		}
+	case formatMarkdown:
+		fmt.Fprintln(w)
+		for _, l := range lines {
+			if rest, nested := strings.CutPrefix(l, "  "); nested {
+				fmt.Fprintln(w, "  - "+strings.TrimLeft(rest, " "))
+			} else {
+				fmt.Fprintln(w, "- "+l)
+			}
+		}
+	default:
+		for _, l := range lines {
+			fmt.Fprintln(w, l)
+		}
+	}
+}
+
 func writeJSON(w io.Writer, v any) error {
 	enc := json.NewEncoder(w)
 	enc.SetIndent("", "  ")
