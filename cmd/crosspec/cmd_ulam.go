@@ -183,8 +183,12 @@ func writeUlamReport(e *env, report ulamReport, format string, eigs int) int {
 	if err := report.grid(eigs).render(e.stdout, format); err != nil {
 		return e.fail(err)
 	}
+	writeLines(e.stdout, format, []string{ulamNote})
 	return exitOK
 }
+
+// ulamNote tells how to read the table of ulam.
+const ulamNote = "Each row is the estimate on one grid, not extrapolated: its change from grid to grid shows the discretization error, which crosspec check extrapolates with an (estimated, not rigorous) error bar."
 
 // writeGalerkinDensity writes the leading density of a higher-order basis
 // at 1000 equally spaced points.

@@ -120,11 +120,16 @@ func (g *grid) renderLaTeX(w io.Writer) error {
 // estimatesNote ends every report with error bars: how to take them.
 const estimatesNote = "Error bars are estimates from the observed convergence, not rigorous bounds; value(error) gives the error in the last digits shown: 1.234(5) is 1.234 ± 0.005."
 
-// writeNotes writes the lines under a report's tables, then estimatesNote:
-// as they are in a table, as a Markdown list (a line indented by two
-// spaces nested under the one before), as LaTeX comments; nothing in CSV.
+// writeNotes writes the lines under a report's tables, then estimatesNote
+// (writeLines).
 func writeNotes(w io.Writer, format string, lines []string) {
-	lines = append(lines, estimatesNote)
+	writeLines(w, format, append(lines, estimatesNote))
+}
+
+// writeLines writes the lines under a report's tables: as they are in a
+// table, as a Markdown list (a line indented by two spaces nested under
+// the one before), as LaTeX comments; nothing in CSV.
+func writeLines(w io.Writer, format string, lines []string) {
 	switch format {
 	case formatCSV:
 		return
