@@ -33,8 +33,10 @@
 // integrated in the image variable: Σ_l ∫ w(x_l(y)) |x_l'(y)| dy over each
 // target cell, with the integrand interpolated at Chebyshev nodes. The laps
 // narrower than the lap scan's tolerance are left out; their length is
-// reported (Matrix.ExcludedLength), and in a closed system their mass is
-// given the distribution of the rest of their cell. A map of dimension
+// reported (Matrix.ExcludedLength), and in a closed system their mass,
+// with the integrals of w and a·w over them, is given the distribution of
+// the rest of their cell, or of the nearest resolved cell for a cell they
+// cover. A map of dimension
 // d ≥ 2 is assembled from a tensor grid of test points per cell (the
 // midpoint rule for the same integral), their images located by index
 // arithmetic; points leaving the box escape.
