@@ -141,6 +141,18 @@ func unconverged(s Status, regular bool) bool {
 	return true
 }
 
+// Unrefuted downgrades a disagreement to Inconclusive for the given
+// reason, which is added to Reasons whatever the verdict: callers use it
+// where the two paths may legitimately estimate different things, such as
+// the subleading eigenvalue of a discontinuous basis and that of a cycle
+// expansion.
+func (c *Comparison) Unrefuted(reason string) {
+	if c.Verdict == Disagree {
+		c.Verdict = Inconclusive
+	}
+	c.Reasons = append(c.Reasons, reason)
+}
+
 // Unconfirmed downgrades an agreement to Inconclusive for the given
 // reason, which is added to Reasons whatever the verdict: callers use it
 // for diagnostics the estimates do not carry, such as a cycle expansion

@@ -68,6 +68,17 @@ func TestCompareSpecialCases(t *testing.T) {
 	if c.Verdict != Disagree || !math.IsInf(c.Discrepancy, 1) {
 		t.Errorf("different exact values: %+v", c)
 	}
+	// Paths that may estimate different things: a disagreement becomes
+	// inconclusive, an agreement stays, and the reason is kept either way.
+	c.Unrefuted("different function spaces")
+	if c.Verdict != Inconclusive || c.Reasons[len(c.Reasons)-1] != "different function spaces" {
+		t.Errorf("unrefuted disagreement: %+v", c)
+	}
+	c = Compare(good, floor)
+	c.Unrefuted("different function spaces")
+	if c.Verdict != Agree || c.Reasons[len(c.Reasons)-1] != "different function spaces" {
+		t.Errorf("unrefuted agreement: %+v", c)
+	}
 	for v, s := range map[Verdict]string{Agree: "agree", Inconclusive: "inconclusive", Disagree: "disagree"} {
 		if v.String() != s {
 			t.Errorf("%d: %q", int(v), v.String())

@@ -3,6 +3,7 @@ package main
 import (
 	"bufio"
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -257,5 +258,42 @@ func TestCheckAdviceLongerCycles(t *testing.T) {
 		if got := strings.Contains(stdout, "try a larger --max-len"); got != c.hint {
 			t.Errorf("%s: hint %v, want %v:\n%s", c.system, got, c.hint, stdout)
 		}
+	}
+}
+
+// TestCheckDecayRateBases: the middle-thirds Cantor map's transfer operator
+// has λ_k = (2/3) 3^(−k) on analytic functions (linear branches of slope 3;
+// common practice, no source), so the cycle expansion's decay rate is
+// ln 3, while plain Ulam sees the jump eigenvalue 1/3 of the fixed points
+// 0 and 1 (reached by the hole's edges) and gives ln 2. Those differ
+// without either path being wrong: check must not say "disagree", and must
+// say why. The global Chebyshev basis, smooth, agrees with the cycles.
+func TestCheckDecayRateBases(t *testing.T) {
+	run := func(args ...string) map[string]any {
+		t.Helper()
+		code, stdout, stderr := runCLI(append([]string{"check", "cantor", "--quantity", "decay-rate", "--max-len", "8", "--format", "json"}, args...)...)
+		if code != exitOK {
+			t.Fatalf("%v: exit %d: %s", args, code, stderr)
+		}
+		var doc map[string]any
+		if err := json.Unmarshal([]byte(stdout), &doc); err != nil {
+			t.Fatal(err)
+		}
+		return doc
+	}
+	doc := run("--cells", "1024,2048,4096")
+	if v := field(t, doc, "ulam", "estimate").(float64); math.Abs(v-math.Ln2) > 1e-9 {
+		t.Errorf("Ulam decay rate %.12g, want ln 2 (the jump eigenvalue)", v)
+	}
+	if v := field(t, doc, "cycles", "estimate").(float64); math.Abs(v-math.Log(3)) > 1e-9 {
+		t.Errorf("cycle decay rate %.12g, want ln 3", v)
+	}
+	reasons := fmt.Sprint(field(t, doc, "reasons"))
+	if field(t, doc, "verdict") != "inconclusive" || !strings.Contains(reasons, "analytic functions") {
+		t.Errorf("plain Ulam against cycles: verdict %v, reasons %s", field(t, doc, "verdict"), reasons)
+	}
+	doc = run("--methods", "galerkin,cycles", "--basis", "chebyshev")
+	if field(t, doc, "verdict") != "agree" {
+		t.Errorf("Chebyshev against cycles: verdict %v, reasons %v", field(t, doc, "verdict"), field(t, doc, "reasons"))
 	}
 }
