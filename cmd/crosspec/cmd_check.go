@@ -433,13 +433,15 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 
 // jumpModes explains why a decay rate from a basis with jumps (plain Ulam,
 // piecewise polynomials on cells) and one from cycles may differ: the
-// basis approximates the transfer operator on functions with jumps, where
-// a jump at a point whose orbit reaches a periodic orbit (a cell edge, the
-// edge of a hole) is an eigenfunction with eigenvalue about 1/|Λ| (the
-// Cantor map's fixed points: 1/3 against λ_1 = 2/9 on analytic functions),
-// while the cycle expansion gives the spectrum on analytic functions.
+// basis approximates the transfer operator on functions of bounded
+// variation, whose spectrum below λ_0 reaches out to the essential
+// spectral radius, about 1/min|f'| for a piecewise expanding map (G.
+// Keller, 1984, from memory), with eigenvalues such as 1/|Λ| from jumps on
+// the orbits of periodic points (the Cantor map's fixed points, reached by
+// the hole's edges: 1/3 against λ_1 = 2/9 on analytic functions), while
+// the cycle expansion gives the spectrum on analytic functions.
 func jumpModes(basis string) string {
-	return basis + " approximates λ1 of the transfer operator on functions with jumps, where jumps on the orbits of periodic points add eigenvalues such as 1/|Λ|; the cycle expansion gives λ1 on analytic functions: the decay rates may differ without either being wrong (for maps with analytic full branches --methods galerkin,cycles --basis chebyshev compares like with like)"
+	return basis + " approximates the transfer operator on functions with jumps, whose λ1 can be much larger (up to the essential spectral radius, about 1/min|f'|, and 1/|Λ| for jumps on periodic orbits) than λ1 on analytic functions, which the cycle expansion gives: the decay rates may differ without either being wrong (for maps with analytic full branches --methods galerkin,cycles --basis chebyshev compares like with like)"
 }
 
 // estimateUlam extrapolates the Ulam runs, or returns an estimate with
