@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 	"testing"
 
 	"crosspec/compare"
@@ -121,15 +122,19 @@ func TestCalibration(t *testing.T) {
 				continue
 			}
 			var steps []int
-			var values []float64
+			var values, floors []float64
 			for i, n := range g.sizes {
 				res, err := galerkin.Compute(s, c.quantity, g.set(n), nil)
 				if err != nil {
 					t.Fatalf("%s %s %s at size %d: %v", c.system, c.quantity, g.name, n, err)
 				}
-				steps, values = append(steps, i+1), append(values, res.Value)
+				steps, values, floors = append(steps, i+1), append(values, res.Value), append(floors, res.Floor)
 			}
-			est := compare.Galerkin(steps, values, nil)
+			// With the floors when every size has one, as check does.
+			if slices.ContainsFunc(floors, func(f float64) bool { return !(f > 0) }) {
+				floors = nil
+			}
+			est := compare.GalerkinWithFloors(steps, values, floors, nil)
 			cases = append(cases, compare.Case{Label: fmt.Sprintf("%s %s %s (%s)", c.system, c.quantity, g.name, source), Truth: truth, Estimate: est})
 		}
 		if c.cycles {

@@ -34,32 +34,48 @@ func Cycles(orders []int, values []float64, s *Settings) Estimate {
 // panics if the lengths differ.
 func CyclesWithFloors(orders []int, values, floors []float64, s *Settings) Estimate {
 	checkShape("CyclesWithFloors", "orders", orders, values)
+	return withFloors("CyclesWithFloors", "length", Cycles, orders, values, floors, s)
+}
+
+// GalerkinWithFloors is Galerkin for estimates whose round-off floors are
+// known (galerkin.Result.Floor of the global Chebyshev basis, where a
+// subleading eigenvalue's condition number makes the floor of a decay rate
+// 1e-10 or more): the sequence is cut and its error bounded below as in
+// CyclesWithFloors. floors may be nil, and a zero floor is no floor.
+func GalerkinWithFloors(steps []int, values, floors []float64, s *Settings) Estimate {
+	checkShape("GalerkinWithFloors", "steps", steps, values)
+	return withFloors("GalerkinWithFloors", "step", Galerkin, steps, values, floors, s)
+}
+
+// withFloors applies analyse to the estimates up to the floor cut
+// (floorCut) and bounds the error below by the floor there.
+func withFloors(name, unit string, analyse func([]int, []float64, *Settings) Estimate, orders []int, values, floors []float64, s *Settings) Estimate {
 	if floors == nil {
-		return Cycles(orders, values, s)
+		return analyse(orders, values, s)
 	}
 	if len(floors) != len(values) {
-		panic(fmt.Sprintf("compare: CyclesWithFloors: %d values but %d floors", len(values), len(floors)))
+		panic(fmt.Sprintf("compare: %s: %d values but %d floors", name, len(values), len(floors)))
 	}
 	end, floor := floorCut(values, floors)
 	if end == len(values) {
-		return Cycles(orders, values, s)
+		return analyse(orders, values, s)
 	}
-	est := Cycles(orders[:end], values[:end], s)
+	est := analyse(orders[:end], values[:end], s)
 	if floor >= est.Error && !est.Status.Stagnated() {
 		est.Status = RoundOffFloor
 	}
 	est.Error = math.Max(est.Error, floor)
-	est.Reason = fmt.Sprintf("cut after length %d, where the estimates agree within their round-off floors (%.2g); ", orders[end-1], floor) + est.Reason
+	est.Reason = fmt.Sprintf("cut after %s %d, where the estimates agree within their round-off floors (%.2g); ", unit, orders[end-1], floor) + est.Reason
 	return est
 }
 
 // floorCut returns the number of leading estimates to keep, up to the
-// first finite one whose change from the previous finite one is within the
-// floors of the two (len(values) when there is none), and the larger of
-// those two floors.
+// first finite one (a finite value with a positive, finite floor) whose
+// change from the previous finite one is within the floors of the two
+// (len(values) when there is none), and the larger of those two floors.
 func floorCut(values, floors []float64) (int, float64) {
 	finite := func(i int) bool {
-		return !math.IsNaN(values[i]) && !math.IsInf(values[i], 0) && !math.IsNaN(floors[i]) && !math.IsInf(floors[i], 0)
+		return !math.IsNaN(values[i]) && !math.IsInf(values[i], 0) && floors[i] > 0 && !math.IsInf(floors[i], 0)
 	}
 	prev := -1
 	for i := range values {

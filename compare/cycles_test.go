@@ -227,3 +227,28 @@ func TestCyclesWithFloors(t *testing.T) {
 		t.Errorf("with negligible floors %+v, without %+v", a, b)
 	}
 }
+
+// TestGalerkinWithFloors: a spectral basis converging geometrically, then
+// scattered by its round-off floor (1e-9, a subleading eigenvalue's
+// condition times ε), as the Chebyshev basis's decay rates are; synthetic
+// (common practice, no source). The sequence is cut where two sizes agree
+// within their floors, the status is the round-off floor, the bar covers
+// the limit and is no smaller than the floor. Without floors it is
+// Galerkin's estimate.
+func TestGalerkinWithFloors(t *testing.T) {
+	const limit, floor = 3.8301312202, 1e-9
+	rng := rand.New(rand.NewPCG(9, 2))
+	steps := lengths(9)
+	floors := make([]float64, len(steps))
+	values := sample(steps, func(n float64) float64 {
+		floors[int(n)-1] = floor
+		return limit + 0.05*math.Exp(-2.5*n) + floor*(2*rng.Float64()-1)
+	})
+	e := GalerkinWithFloors(steps, values, floors, nil)
+	if e.Status != RoundOffFloor || e.Error < floor || math.Abs(e.Value-limit) > e.Error || !strings.HasPrefix(e.Reason, "cut after step") {
+		t.Errorf("%.12g ± %.3g, status %v (%s); want the limit %.12g within a bar of at least %g, at the floor", e.Value, e.Error, e.Status, e.Reason, limit, floor)
+	}
+	if a, b := GalerkinWithFloors(steps, values, nil, nil), Galerkin(steps, values, nil); a != b {
+		t.Errorf("without floors %+v, Galerkin %+v", a, b)
+	}
+}

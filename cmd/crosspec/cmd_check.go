@@ -408,8 +408,8 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 			r.comparison.Unconfirmed(stalled)
 		}
 	}
-	if sizes, values := r.galerkinValues(); len(sizes) > 0 {
-		r.galerkinEst = estimateGalerkin(values)
+	if len(r.galerkinRuns) > 0 {
+		r.galerkinEst = r.estimateGalerkin()
 		r.galerkinComparison = compare.ComparePaths(compare.Path{Name: "galerkin", Estimate: r.galerkinEst}, cyclesPath)
 		if stalled != "" {
 			r.galerkinComparison.Unconfirmed(stalled)
@@ -460,13 +460,21 @@ func (r *checkResult) estimateUlam() compare.Estimate {
 }
 
 // estimateGalerkin extrapolates the values of a higher-order basis over its
-// sequence of sizes (compare.Galerkin, on the index of the size).
-func estimateGalerkin(values []float64) compare.Estimate {
-	steps := make([]int, len(values))
-	for i := range steps {
-		steps[i] = i + 1
+// sequence of sizes (compare.GalerkinWithFloors, on the index of the size),
+// with their round-off floors when every run has one.
+func (r *checkResult) estimateGalerkin() compare.Estimate {
+	steps := make([]int, len(r.galerkinRuns))
+	values := make([]float64, len(r.galerkinRuns))
+	floors := make([]float64, len(r.galerkinRuns))
+	all := true
+	for i, run := range r.galerkinRuns {
+		steps[i], values[i], floors[i] = i+1, run.Value, run.Floor
+		all = all && run.Floor > 0
 	}
-	return compare.Galerkin(steps, values, nil)
+	if !all {
+		floors = nil
+	}
+	return compare.GalerkinWithFloors(steps, values, floors, nil)
 }
 
 // cyclesNotRun is the reason of the cycle estimate and notRun the status of
@@ -491,8 +499,7 @@ func (r *checkResult) compareWithoutCycles() {
 	r.cyclesEst = compare.Estimate{Value: math.NaN(), Error: math.NaN(), Last: math.NaN(), Order: math.NaN(),
 		Status: compare.TooFewPoints, Reason: cyclesNotRun}
 	r.ulamEst = r.estimateUlam()
-	_, values := r.galerkinValues()
-	r.galerkinEst = estimateGalerkin(values)
+	r.galerkinEst = r.estimateGalerkin()
 	r.comparison = compare.ComparePaths(compare.Path{Name: "ulam", Estimate: r.ulamEst, Erratic: true},
 		compare.Path{Name: "galerkin", Estimate: r.galerkinEst})
 	cells, ulamValues := r.ulamValues()

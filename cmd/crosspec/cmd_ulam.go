@@ -303,6 +303,9 @@ type ulamRunJSON struct {
 	Seconds        float64       `json:"seconds"`
 	MatVecs        int           `json:"matvecs"`
 	ExcludedLength float64       `json:"excluded_length"`
+	// Floor is the round-off floor of Value where it is estimated (the
+	// Chebyshev basis: galerkin.Result.Floor).
+	Floor float64 `json:"floor,omitempty"`
 }
 
 func newUlamRun(res ulam.Result, seconds float64) ulamRunJSON {

@@ -60,7 +60,7 @@ func runGalerkin(s *dynsys.System, q dynsys.Quantity, d discretization, size int
 		return ulamRunJSON{}, res, &numericalError{err}
 	}
 	run := ulamRunJSON{Cells: res.Dim, GridCells: size, NNZ: res.NNZ, Residuals: res.Residuals, Value: res.Value,
-		Seconds: time.Since(start).Seconds(), MatVecs: res.Stats.MatVecs}
+		Seconds: time.Since(start).Seconds(), MatVecs: res.Stats.MatVecs, Floor: res.Floor}
 	for _, z := range res.Eigenvalues {
 		run.Eigenvalues = append(run.Eigenvalues, jsonComplex{real(z), imag(z)})
 	}

@@ -11,7 +11,6 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
-	"gonum.org/v1/gonum/mat"
 
 	"crosspec/cycles"
 	"crosspec/dynsys"
@@ -139,16 +138,14 @@ func TestSkewTent(t *testing.T) {
 // for odd m, so on polynomials its eigenvalues are 4^(−k) and 0 (common
 // practice, no source), and the collocation, exact on polynomials of
 // degree < n, has them up to round-off. That round-off is amplified by the
-// eigenvalue's condition number κ_k = ‖x‖‖y‖/|yᵀx| (left and right
-// eigenvectors from gonum's mat.Eigen on the assembled matrix), large
-// here since the Lagrange basis is far from the monomial one in which A
-// is triangular: with rounding errors E of the entries and of the dense
-// solve, ‖E‖ ≤ nε‖A‖_F each (common practice, no source), the error is at
-// most 2nε‖A‖_F κ_k to first order. The Lyapunov exponent is ln 2. The
-// logistic map at 4, whose critical point 1/2 is the preimage of 1 too, is
-// refused.
+// eigenvalue's condition number κ_k, large here since the Lagrange basis
+// is far from the monomial one in which A is triangular: the rounding of
+// the entries and of the dense solve, nu‖A‖_F each (u = 2⁻⁵³), move λ_k by
+// at most 2nu‖A‖_F κ_k to first order, twice the floor chebyshevFloors
+// reports (κ_k from gonum's mat.Eigen). So this checks the floors too. The
+// Lyapunov exponent is ln 2. The logistic map at 4, whose critical point
+// 1/2 is the preimage of 1 too, is refused.
 func TestChebyshevKink(t *testing.T) {
-	const eps = 0x1p-52
 	sys := lookup(t, "tent")
 	for _, n := range []int{8, 16} {
 		r, err := Compute(sys, dynsys.Eigenvalues, &Settings{Basis: Chebyshev, Size: n}, &ulam.SolveSettings{Eigenvalues: 4})
@@ -159,37 +156,15 @@ func TestChebyshevKink(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		a := mat.NewDense(n, n, m.Val)
-		var eig mat.Eigen
-		if !eig.Factorize(a, mat.EigenBoth) {
-			t.Fatal("mat.Eigen failed")
-		}
-		values := eig.Values(nil)
-		var left, right mat.CDense
-		eig.LeftVectorsTo(&left)
-		eig.VectorsTo(&right)
+		floors := chebyshevFloors(m, r.Eigenvalues[:4])
 		for k, v := range r.Eigenvalues[:4] {
 			want := math.Pow(4, -float64(k))
-			// κ of the eigenvalue of the assembled matrix nearest want.
-			j := 0
-			for i, w := range values {
-				if cmplx.Abs(w-complex(want, 0)) < cmplx.Abs(values[j]-complex(want, 0)) {
-					j = i
-				}
+			if err := cmplx.Abs(v - complex(want, 0)); !(err <= 2*floors[k]) {
+				t.Errorf("n = %d: λ_%d = %v, want %v within %.2g", n, k, v, want, 2*floors[k])
 			}
-			var xx, yy float64
-			var yx complex128
-			for i := range n {
-				x, y := right.At(i, j), left.At(i, j)
-				xx += real(x * cmplx.Conj(x))
-				yy += real(y * cmplx.Conj(y))
-				yx += cmplx.Conj(y) * x
-			}
-			kappa := math.Sqrt(xx*yy) / cmplx.Abs(yx)
-			tol := 2 * float64(n) * eps * mat.Norm(a, 2) * kappa
-			if err := cmplx.Abs(v - complex(want, 0)); err > tol {
-				t.Errorf("n = %d: λ_%d = %v, want %v within %.2g (condition %.3g)", n, k, v, want, tol, kappa)
-			}
+		}
+		if r.Floor != floors[0] {
+			t.Errorf("n = %d: Result.Floor %g, want λ_0's floor %g", n, r.Floor, floors[0])
 		}
 		r, err = Compute(sys, dynsys.Lyapunov, &Settings{Basis: Chebyshev, Size: n}, nil)
 		if err != nil {
