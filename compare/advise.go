@@ -47,8 +47,9 @@ func Advise(cells []int, ulamValues []float64, orders []int, cycleValues, cycleF
 	cyc := CyclesWithFloors(orders, cycleValues, cycleFloors, nil)
 	ul := Ulam(cells, ulamValues, nil)
 	if cycleFloors != nil {
-		end, _ := floorCut(cycleValues, cycleFloors)
-		orders, cycleValues = orders[:end], cycleValues[:end]
+		if idx, j := floorCut(cycleValues, cycleFloors); j >= 0 {
+			orders, cycleValues = orders[:idx[j]+1], cycleValues[:idx[j]+1]
+		}
 	}
 
 	orders, cycleValues, _ = dropNonFinite(orders, cycleValues)

@@ -25,13 +25,21 @@ func Cycles(orders []int, values []float64, s *Settings) Estimate {
 // grows with the length like ε|z|^n, so for a zero far from the origin
 // (a subleading eigenvalue, the decay rate) the estimates converge to the
 // floor and then drift with the noise, which the model of Cycles would
-// read as a stall. So the sequence is cut after the first estimate whose
-// change from the previous one is within the floors of the two (the
-// later ones differ by noise alone), Cycles is applied to the rest, and
-// the error is at least the larger of those two floors; when that is what
-// limits it, the status is RoundOffFloor. floors may be nil (Cycles);
-// non-finite values and floors are skipped when looking for the cut. It
-// panics if the lengths differ.
+// read as a stall or as irregular signs. So the sequence ends at the
+// first estimate v_i whose change d = |v_i − v_{i−1}| from the previous
+// one is within the floors of the two (the later ones differ by noise
+// alone): v_i is reported, Status RoundOffFloor, with the error max(d,
+// f_i, f_{i−1}, min(d + f_i, t)), t = d_{i−1} r/(1 − r), r =
+// d_{i−1}/d_{i−2}, the geometric tail of the changes to come after v_{i−1}
+// (d_{i−1} when r ≥ 1; d + f_i alone with fewer than two changes before),
+// the bound of the cycle expansion's own estimate (cycles, AtFloor). The
+// floors bound the rounding noise and are often far above it, so v_i, the
+// noisier of the two, and both floors keep the bar honest (v_{i−1} with
+// its own floor was 281 times too wide for the doubling map's decay rate
+// in the calibration). Without such a pair it is Cycles. floors may be
+// nil (Cycles); values and floors that are not finite, and floors that
+// are not positive, are skipped when looking for the end. It panics if
+// the lengths differ.
 func CyclesWithFloors(orders []int, values, floors []float64, s *Settings) Estimate {
 	checkShape("CyclesWithFloors", "orders", orders, values)
 	return withFloors("CyclesWithFloors", "length", Cycles, orders, values, floors, s)
@@ -40,15 +48,16 @@ func CyclesWithFloors(orders []int, values, floors []float64, s *Settings) Estim
 // GalerkinWithFloors is Galerkin for estimates whose round-off floors are
 // known (galerkin.Result.Floor of the global Chebyshev basis, where a
 // subleading eigenvalue's condition number makes the floor of a decay rate
-// 1e-10 or more): the sequence is cut and its error bounded below as in
-// CyclesWithFloors. floors may be nil, and a zero floor is no floor.
+// 1e-10 or more): the sequence ends where two sizes agree within their
+// floors, as in CyclesWithFloors. floors may be nil, and a zero floor is
+// no floor.
 func GalerkinWithFloors(steps []int, values, floors []float64, s *Settings) Estimate {
 	checkShape("GalerkinWithFloors", "steps", steps, values)
 	return withFloors("GalerkinWithFloors", "step", Galerkin, steps, values, floors, s)
 }
 
-// withFloors applies analyse to the estimates up to the floor cut
-// (floorCut) and bounds the error below by the floor there.
+// withFloors is the at-floor estimate of CyclesWithFloors, or analyse when
+// no two estimates agree within their floors.
 func withFloors(name, unit string, analyse func([]int, []float64, *Settings) Estimate, orders []int, values, floors []float64, s *Settings) Estimate {
 	if floors == nil {
 		return analyse(orders, values, s)
@@ -56,41 +65,57 @@ func withFloors(name, unit string, analyse func([]int, []float64, *Settings) Est
 	if len(floors) != len(values) {
 		panic(fmt.Sprintf("compare: %s: %d values but %d floors", name, len(values), len(floors)))
 	}
-	end, floor := floorCut(values, floors)
-	if end == len(values) {
+	idx, j := floorCut(values, floors)
+	if j < 0 {
 		return analyse(orders, values, s)
 	}
-	est := analyse(orders[:end], values[:end], s)
-	if floor >= est.Error && !est.Status.Stagnated() {
-		est.Status = RoundOffFloor
+	i, prev := idx[j], idx[j-1]
+	change := func(k int) float64 { return math.Abs(values[idx[k]] - values[idx[k-1]]) }
+	d := change(j)
+	// The truncation error left: at most d + f_i (v_i is within f_i of its
+	// truncation, which is no further from the limit than v_prev's), or
+	// the geometric tail of the changes after v_prev predicted by the last
+	// two changes before, whichever is smaller.
+	tail := d + floors[i]
+	if j >= 3 {
+		last, before := change(j-1), change(j-2)
+		if r := last / before; r < 1 {
+			tail = math.Min(tail, last*r/(1-r))
+		} else {
+			tail = math.Min(tail, last)
+		}
 	}
-	est.Error = math.Max(est.Error, floor)
-	est.Reason = fmt.Sprintf("cut after %s %d, where the estimates agree within their round-off floors (%.2g); ", unit, orders[end-1], floor) + est.Reason
-	return est
+	scale := 0.0
+	for _, k := range idx {
+		scale = math.Max(scale, math.Abs(values[k]))
+	}
+	return Estimate{
+		Value: values[i], Error: max(d, floors[i], floors[prev], tail, minError(scale)), Last: values[len(values)-1],
+		Order: math.NaN(), Status: RoundOffFloor, Used: orders[i],
+		Reason: fmt.Sprintf("%s %d and %d agree within their round-off floors (%.2g and %.2g): the value at %s %d, error the larger of their difference, their floors and the tail the changes before predict",
+			unit, orders[prev], orders[i], floors[prev], floors[i], unit, orders[i]),
+	}
 }
 
-// floorCut returns the number of leading estimates to keep, up to the
-// first finite one (a finite value with a positive, finite floor) whose
-// change from the previous finite one is within the floors of the two
-// (len(values) when there is none), and the larger of those two floors.
-func floorCut(values, floors []float64) (int, float64) {
-	finite := func(i int) bool {
-		return !math.IsNaN(values[i]) && !math.IsInf(values[i], 0) && floors[i] > 0 && !math.IsInf(floors[i], 0)
-	}
-	prev := -1
+// floorCut returns the indices of the finite estimates (a finite value
+// with a positive, finite floor) and the position j in that list of the
+// first whose change from the one before is within the floors of the two,
+// or −1 when there is none.
+func floorCut(values, floors []float64) ([]int, int) {
+	var idx []int
 	for i := range values {
-		if !finite(i) {
+		if math.IsNaN(values[i]) || math.IsInf(values[i], 0) || !(floors[i] > 0) || math.IsInf(floors[i], 0) {
 			continue
 		}
-		if prev >= 0 {
-			floor := math.Max(floors[i], floors[prev])
-			if math.Abs(values[i]-values[prev]) <= floor {
-				return i + 1, floor
+		idx = append(idx, i)
+		if j := len(idx) - 1; j > 0 {
+			prev := idx[j-1]
+			if math.Abs(values[i]-values[prev]) <= math.Max(floors[i], floors[prev]) {
+				return idx, j
 			}
 		}
-		prev = i
 	}
-	return len(values), 0
+	return idx, -1
 }
 
 // Galerkin analyses the estimates of a higher-order discretization
