@@ -207,10 +207,11 @@ type Result struct {
 	// Status is krylov.Converged when every solve converged.
 	Status krylov.Status
 	// Floor is the round-off floor of Value for the global Chebyshev
-	// basis and the quantities drawn from eigenvalues alone (eigenvalues,
-	// escape rate, pressure, decay rate): the change of Value that the
-	// rounding of the matrix and of its dense eigen-solve can cause
-	// (chebyshevFloors); zero where it is not estimated.
+	// basis up to denseLimit points and the quantities drawn from
+	// eigenvalues alone (eigenvalues, escape rate, pressure, decay rate):
+	// the change of Value that the rounding of the matrix and of its dense
+	// eigen-solve can cause (chebyshevFloors); zero where it is not
+	// estimated.
 	Floor float64
 }
 
@@ -280,7 +281,9 @@ func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *u
 		return res, fmt.Errorf("%w: %s: %v", ErrLeading, sys.Name, lambda0)
 	}
 	res.Value = ulam.SpectrumValue(q, res.Eigenvalues)
-	if cm, ok := m.(*ChebyshevMatrix); ok {
+	if cm, ok := m.(*ChebyshevMatrix); ok && cm.Dim() <= denseLimit {
+		// Up to the size solved densely anyway: the condition numbers
+		// cost another dense solve.
 		res.Floor = valueFloor(q, res.Eigenvalues, chebyshevFloors(cm, res.Eigenvalues[:min(2, len(res.Eigenvalues))]))
 	}
 	if needPair {
