@@ -183,7 +183,15 @@ func writeUlamReport(e *env, report ulamReport, format string, eigs int) int {
 	if err := report.grid(eigs).render(e.stdout, format); err != nil {
 		return e.fail(err)
 	}
-	writeLines(e.stdout, format, []string{ulamNote})
+	notes := []string{ulamNote}
+	if (report.Quantity == string(dynsys.DecayRate) || eigs > 1) && report.Basis != "Chebyshev basis" {
+		basis := "plain Ulam"
+		if report.Basis != "" {
+			basis = report.Basis + " on cells"
+		}
+		notes = append(notes, basis+" approximates the transfer operator on functions with jumps: its eigenvalues after λ0 can differ from those on analytic functions, which cycle expansions give (--basis chebyshev resolves those for maps with analytic full branches).")
+	}
+	writeLines(e.stdout, format, notes)
 	return exitOK
 }
 
