@@ -169,7 +169,7 @@ func cycles(w pathWords, orders []int, values []float64, set Settings) Estimate 
 	}
 	d := differences(values)
 	if start := roundOffFloor(d, set.RoundOff*scale); start >= 0 {
-		return floorEstimate(orders, values, start, set, scale, w.name)
+		return floorEstimate(orders, values, start, set, scale, set.RoundOff*scale, w.name)
 	}
 	minErr := minError(scale)
 	if n < set.MinPoints {

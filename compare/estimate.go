@@ -160,6 +160,15 @@ type Settings struct {
 	// FitPoints is the number of trailing successive differences of a cycle
 	// expansion to which the decay trend of ln|d| is fitted. Default 5.
 	FitPoints int
+
+	// SolverTol is the relative residual at which the eigen-solves behind
+	// Ulam estimates stopped (ulam.SolveSettings.Tol). A leading
+	// eigenvalue of these nonnegative matrices is well conditioned (κ =
+	// 1.06–1.11 on the catalog's repellers, 1 for a closed map), so each
+	// estimate carries a relative error up to about SolverTol and two
+	// differ by up to twice that: Ulam's round-off level is at least
+	// 2·SolverTol. Default 1e-12, the solvers' default.
+	SolverTol float64
 }
 
 func (s *Settings) withDefaults() Settings {
@@ -199,6 +208,9 @@ func (s *Settings) withDefaults() Settings {
 	}
 	if out.FitPoints < 2 {
 		out.FitPoints = 5
+	}
+	if !(out.SolverTol > 0) {
+		out.SolverTol = 1e-12
 	}
 	return out
 }
@@ -293,7 +305,7 @@ func roundOffFloor(d []float64, level float64) int {
 // d[start] on are at round-off: the value is the mean of the estimates on the
 // floor, values[start:], and the error the larger of the floor's extent
 // times the spread factor and the minimum error.
-func floorEstimate(res []int, values []float64, start int, set Settings, scale float64, path string) Estimate {
+func floorEstimate(res []int, values []float64, start int, set Settings, scale, level float64, path string) Estimate {
 	floor := values[start:]
 	mean := 0.0
 	for _, v := range floor {
@@ -313,7 +325,7 @@ func floorEstimate(res []int, values []float64, start int, set Settings, scale f
 		Order:  math.NaN(),
 		Status: RoundOffFloor,
 		Reason: fmt.Sprintf("%s: successive differences at round-off (≤ %.1e) from %d on; value is the mean of %d estimates on the floor",
-			path, set.RoundOff*scale, res[start], len(floor)),
+			path, level, res[start], len(floor)),
 		Used: res[start],
 	}
 }

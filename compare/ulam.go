@@ -37,9 +37,11 @@ func ulam(cells []int, values []float64, set Settings) Estimate {
 	}
 	d := differences(values)
 	// A single tiny difference between two Ulam estimates is more often a
-	// crossing of an erratic sequence than the floor: demand two.
-	if start := roundOffFloor(d, set.RoundOff*scale); start >= 0 && start <= len(d)-2 {
-		return floorEstimate(cells, values, start, set, scale, "ulam")
+	// crossing of an erratic sequence than the floor: demand two. The
+	// floor is that of the eigen-solves' stopping test (Settings.SolverTol).
+	level := math.Max(set.RoundOff, 2*set.SolverTol) * scale
+	if start := roundOffFloor(d, level); start >= 0 && start <= len(d)-2 {
+		return floorEstimate(cells, values, start, set, scale, level, "ulam")
 	}
 	spreadErr := math.Max(set.SpreadFactor*spread(tail(values, set.SpreadPoints), last), minError(scale))
 	if n < set.MinPoints {
