@@ -143,13 +143,24 @@ func unconverged(s Status, regular bool) bool {
 
 // Unrefuted downgrades a disagreement to Inconclusive for the given
 // reason, which is added to Reasons whatever the verdict: callers use it
-// where the two paths may legitimately estimate different things, such as
-// the subleading eigenvalue of a discontinuous basis and that of a cycle
-// expansion.
+// where the two paths may legitimately estimate different things but an
+// agreement still confirms, such as the subleading eigenvalue of
+// piecewise polynomials, which may be a jump mode's, against that of a
+// cycle expansion.
 func (c *Comparison) Unrefuted(reason string) {
 	if c.Verdict == Disagree {
 		c.Verdict = Inconclusive
 	}
+	c.Reasons = append(c.Reasons, reason)
+}
+
+// Incomparable makes the verdict Inconclusive, whatever it was, for the
+// given reason, which is added to Reasons: callers use it where the two
+// paths need not estimate the same thing, such as the subleading
+// eigenvalue of a discontinuous basis and that of a cycle expansion, so
+// that neither their agreement nor their disagreement means anything.
+func (c *Comparison) Incomparable(reason string) {
+	c.Verdict = Inconclusive
 	c.Reasons = append(c.Reasons, reason)
 }
 

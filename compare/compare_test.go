@@ -68,15 +68,27 @@ func TestCompareSpecialCases(t *testing.T) {
 	if c.Verdict != Disagree || !math.IsInf(c.Discrepancy, 1) {
 		t.Errorf("different exact values: %+v", c)
 	}
-	// Paths that may estimate different things: a disagreement becomes
-	// inconclusive, an agreement stays, and the reason is kept either way.
-	c.Unrefuted("different function spaces")
+	// Paths that need not estimate the same thing: a disagreement and an
+	// agreement alike become inconclusive, with the reason.
+	c.Incomparable("different function spaces")
 	if c.Verdict != Inconclusive || c.Reasons[len(c.Reasons)-1] != "different function spaces" {
+		t.Errorf("incomparable disagreement: %+v", c)
+	}
+	c = Compare(good, floor)
+	c.Incomparable("different function spaces")
+	if c.Verdict != Inconclusive || c.Reasons[len(c.Reasons)-1] != "different function spaces" {
+		t.Errorf("incomparable agreement: %+v", c)
+	}
+	// Paths whose disagreement may be legitimate but whose agreement
+	// confirms: only a disagreement becomes inconclusive.
+	c = Compare(Estimate{Value: 1}, Estimate{Value: 2})
+	c.Unrefuted("jump modes")
+	if c.Verdict != Inconclusive || c.Reasons[len(c.Reasons)-1] != "jump modes" {
 		t.Errorf("unrefuted disagreement: %+v", c)
 	}
 	c = Compare(good, floor)
-	c.Unrefuted("different function spaces")
-	if c.Verdict != Agree || c.Reasons[len(c.Reasons)-1] != "different function spaces" {
+	c.Unrefuted("jump modes")
+	if c.Verdict != Agree || c.Reasons[len(c.Reasons)-1] != "jump modes" {
 		t.Errorf("unrefuted agreement: %+v", c)
 	}
 	for v, s := range map[Verdict]string{Agree: "agree", Inconclusive: "inconclusive", Disagree: "disagree"} {

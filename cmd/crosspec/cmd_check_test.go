@@ -296,4 +296,17 @@ func TestCheckDecayRateBases(t *testing.T) {
 	if field(t, doc, "verdict") != "agree" {
 		t.Errorf("Chebyshev against cycles: verdict %v, reasons %v", field(t, doc, "verdict"), field(t, doc, "reasons"))
 	}
+	// Plain Ulam's decay rate confirms nothing either: the doubling map's
+	// Ulam matrices have eigenvalues 1 and 0 only, so their λ1 is noise
+	// whatever the verdict of the numbers.
+	code, stdout, stderr := runCLI("check", "doubling", "--quantity", "decay-rate", "--cells", "1024,2048,4096,8192", "--max-len", "8", "--format", "json")
+	if code != exitOK {
+		t.Fatalf("doubling: exit %d: %s", code, stderr)
+	}
+	if err := json.Unmarshal([]byte(stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if field(t, doc, "verdict") != "inconclusive" {
+		t.Errorf("doubling, plain Ulam against cycles: verdict %v", field(t, doc, "verdict"))
+	}
 }
