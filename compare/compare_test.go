@@ -68,28 +68,31 @@ func TestCompareSpecialCases(t *testing.T) {
 	if c.Verdict != Disagree || !math.IsInf(c.Discrepancy, 1) {
 		t.Errorf("different exact values: %+v", c)
 	}
-	// Paths that need not estimate the same thing: a disagreement and an
-	// agreement alike become inconclusive, with the reason.
-	c.Incomparable("different function spaces")
-	if c.Verdict != Inconclusive || c.Reasons[len(c.Reasons)-1] != "different function spaces" {
-		t.Errorf("incomparable disagreement: %+v", c)
-	}
-	c = Compare(good, floor)
-	c.Incomparable("different function spaces")
-	if c.Verdict != Inconclusive || c.Reasons[len(c.Reasons)-1] != "different function spaces" {
-		t.Errorf("incomparable agreement: %+v", c)
-	}
-	// Paths whose disagreement may be legitimate but whose agreement
-	// confirms: only a disagreement becomes inconclusive.
-	c = Compare(Estimate{Value: 1}, Estimate{Value: 2})
-	c.Unrefuted("jump modes")
-	if c.Verdict != Inconclusive || c.Reasons[len(c.Reasons)-1] != "jump modes" {
-		t.Errorf("unrefuted disagreement: %+v", c)
-	}
-	c = Compare(good, floor)
-	c.Unrefuted("jump modes")
-	if c.Verdict != Agree || c.Reasons[len(c.Reasons)-1] != "jump modes" {
-		t.Errorf("unrefuted agreement: %+v", c)
+	// Paths that need not estimate the same thing (Incomparable): a
+	// disagreement and an agreement alike become inconclusive. Paths whose
+	// disagreement may be legitimate but whose agreement confirms
+	// (Unrefuted): only a disagreement does. The reason is kept always.
+	disagree, agree := Estimate{Value: 2}, floor
+	for _, k := range []struct {
+		name  string
+		apply func(*Comparison, string)
+		with  Estimate
+		want  Verdict
+	}{
+		{"incomparable disagreement", (*Comparison).Incomparable, disagree, Inconclusive},
+		{"incomparable agreement", (*Comparison).Incomparable, agree, Inconclusive},
+		{"unrefuted disagreement", (*Comparison).Unrefuted, disagree, Inconclusive},
+		{"unrefuted agreement", (*Comparison).Unrefuted, agree, Agree},
+	} {
+		first := good
+		if k.with == disagree {
+			first = Estimate{Value: 1}
+		}
+		c := Compare(first, k.with)
+		k.apply(&c, "different function spaces")
+		if c.Verdict != k.want || c.Reasons[len(c.Reasons)-1] != "different function spaces" {
+			t.Errorf("%s: %+v", k.name, c)
+		}
 	}
 	for v, s := range map[Verdict]string{Agree: "agree", Inconclusive: "inconclusive", Disagree: "disagree"} {
 		if v.String() != s {
