@@ -168,6 +168,20 @@ func (res *Result) eigen(m *Matrix, sv SolveSettings) error {
 	return nil
 }
 
+// Eigenvalues returns the k eigenvalues of m of largest modulus and their
+// relative residuals, as Compute finds them (krylov.EigsSparse, with the
+// solver settings of sv), for a matrix Compute returned.
+func (m *Matrix) Eigenvalues(k int, sv *SolveSettings) ([]complex128, []float64, error) {
+	var s SolveSettings
+	if sv != nil {
+		s = *sv
+	}
+	var res Result
+	s.Eigenvalues = k
+	err := res.eigen(m, s)
+	return res.Eigenvalues, res.Residuals, err
+}
+
 // leading computes the left and right leading eigenvectors of m, the
 // density and dλ_0/dβ into res.
 func (res *Result) leading(m *Matrix, sv SolveSettings) error {

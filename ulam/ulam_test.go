@@ -715,3 +715,30 @@ observable = "x"
 		t.Errorf("mean: error %v, want ErrLeadingMismatch", err)
 	}
 }
+
+// TestMatrixEigenvalues: the eigenvalues of a matrix Compute returned,
+// asked for again with more of them, are those Compute finds when asked
+// for as many (the same solver; check's spectrum plot relies on it).
+func TestMatrixEigenvalues(t *testing.T) {
+	s := open(t, "logistic-repeller")
+	one, err := Compute(s, dynsys.EscapeRate, &Settings{Cells: 2000}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	three, err := Compute(s, dynsys.EscapeRate, &Settings{Cells: 2000}, &SolveSettings{Eigenvalues: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, res, err := one.Matrix.Eigenvalues(3, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(got) != len(three.Eigenvalues) || len(res) != len(got) {
+		t.Fatalf("%d eigenvalues, %d residuals; want %d", len(got), len(res), len(three.Eigenvalues))
+	}
+	for k := range got {
+		if got[k] != three.Eigenvalues[k] {
+			t.Errorf("λ_%d = %v, Compute gives %v", k, got[k], three.Eigenvalues[k])
+		}
+	}
+}

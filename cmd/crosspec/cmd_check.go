@@ -346,7 +346,9 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 
 	if opts.methods["galerkin"] && r.interrupted == "" {
 		start = time.Now()
-		gsolve := &ulam.SolveSettings{Eigenvalues: solve.Eigenvalues}
+		// As many eigenvalues as the spectrum plot shows (--eigs): the
+		// matrices are small.
+		gsolve := &ulam.SolveSettings{Eigenvalues: max(solve.Eigenvalues, opts.eigs)}
 		for i, size := range opts.galerkinSizes {
 			if opts.progress {
 				fmt.Fprintf(e.stderr, "\r%s: size %d (%d of %d)\033[K", opts.disc, size, i+1, len(opts.galerkinSizes))
@@ -960,6 +962,14 @@ func (r *checkResult) writeAll(dir string, command []string) ([]string, error) {
 	for _, ext := range []string{"svg", "png"} {
 		if err := save("convergence."+ext, r.writeConvergencePlot); err != nil {
 			return nil, err
+		}
+	}
+	// The spectrum plot shows --eigs eigenvalues a path: the largest Ulam
+	// grid was solved for what the quantity needs, often λ_0 alone, so its
+	// kept matrix is solved once more. Should that fail, λ_0 is shown.
+	if m := r.ulamLast.Matrix; m != nil && len(r.ulamLast.Eigenvalues) < r.opts.eigs {
+		if values, _, err := m.Eigenvalues(r.opts.eigs, nil); err == nil {
+			r.ulamLast.Eigenvalues = values
 		}
 	}
 	for _, ext := range []string{"svg", "png"} {
