@@ -56,9 +56,12 @@
 // estimates of a zero far out (a subleading eigenvalue: the decay rate of
 // the logistic repeller 6x(1 − x), |z| ≈ 15, reaches its floor of 3.4e-9
 // at length 7 and is off by 3e-4 at length 12) converge, then drift with
-// the noise: the sequence is cut after the first estimate that agrees
-// with the one before within their floors, and the error is at least
-// those floors. The cycles path of check uses it.
+// the noise: the sequence ends at the first estimate that agrees with the
+// one before within their floors, which is reported with an error of at
+// least those floors and the predicted tail (the bound the expansion's own
+// at-floor estimate uses). The cycles path of check uses it, and
+// GalerkinWithFloors does the same for the global Chebyshev basis, whose
+// subleading eigenvalues carry floors of their own condition numbers.
 //
 // Galerkin applies the same model to a higher-order discretization over a
 // sequence of sizes, on the index of the size (such bases converge at least
@@ -69,8 +72,9 @@
 //
 // Detected in this order, and reported in Status and Reason:
 //   - RoundOffFloor: every difference from some point on is at most
-//     RoundOff·max|v| (two such differences needed for Ulam, where a single
-//     small one is usually an erratic crossing). The value is the mean of the
+//     RoundOff·max|v| (for Ulam at least 2·SolverTol·max|v|, the noise of
+//     the eigen-solves' stopping test, and two such differences are needed,
+//     a single small one being usually an erratic crossing). The value is the mean of the
 //     estimates on the floor, the error SpreadFactor times their range (at
 //     least four units of round-off).
 //   - too few points (TooFewPoints) below MinPoints estimates.
