@@ -283,8 +283,11 @@ func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *u
 	res.Value = ulam.SpectrumValue(q, res.Eigenvalues)
 	if cm, ok := m.(*ChebyshevMatrix); ok && cm.Dim() <= denseLimit {
 		// Up to the size solved densely anyway: the condition numbers
-		// cost another dense solve.
-		res.Floor = valueFloor(q, res.Eigenvalues, chebyshevFloors(cm, res.Eigenvalues[:min(2, len(res.Eigenvalues))]))
+		// cost another dense solve. A floor mat.Eigen could not give
+		// (NaN) is no floor.
+		if f := valueFloor(q, res.Eigenvalues, chebyshevFloors(cm, res.Eigenvalues[:min(2, len(res.Eigenvalues))])); f > 0 && !math.IsInf(f, 0) {
+			res.Floor = f
+		}
 	}
 	if needPair {
 		if err := res.leading(m, sv, set); err != nil {
@@ -482,9 +485,9 @@ func computeDimension(sys *dynsys.System, set Settings, sv ulam.SolveSettings, r
 }
 
 // chebyshevFloors returns, for each of the given eigenvalues of the dense
-// matrix A of m, the change that rounding can cause in it: κ_k nε‖A‖_F,
+// matrix A of m, the change that rounding can cause in it: κ_k nu‖A‖_F,
 // with κ_k = ‖x‖‖y‖/|yᴴx| its condition number (right and left
-// eigenvectors from gonum's mat.Eigen) and nε‖A‖_F the size of the
+// eigenvectors from gonum's mat.Eigen), u = 2⁻⁵³, and nu‖A‖_F the size of the
 // rounding errors of A's entries (sums over n collocation points and the
 // laps) and of a backward-stable dense eigen-solve (common practice, no
 // source). The collocation matrices are far from normal (the Lagrange
