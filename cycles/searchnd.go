@@ -638,7 +638,7 @@ func searchND(ctx context.Context, sys *dynsys.System, cfg *searchConfig, res *S
 		var found []Cycle
 		for _, chunkOut := range append([][]orbitND{wordSeeds}, results...) {
 			for _, o := range chunkOut {
-				if !insideAll(sys, o.points, n) || orbitPeriodND(o.points, n, d, tolSame) < n {
+				if !snapInside(sys, o.points, n, boundaryTol*s.scale) || orbitPeriodND(o.points, n, d, tolSame) < n {
 					continue
 				}
 				if index.find(o.points[:d]) >= 0 {
@@ -707,9 +707,27 @@ func ndAlphabet(sys *dynsys.System, baseSeeds []float64) (int, *Grammar, error) 
 	return m, g, err
 }
 
-func insideAll(sys *dynsys.System, points []float64, n int) bool {
+// boundaryTol is how far outside the box, relative to its size, a cycle
+// point may come out of Newton's iteration and still lie on the box.
+const boundaryTol = 1e-12
+
+// snapInside reports whether the n points lie in the box of sys, putting
+// a coordinate that is outside by at most tol onto the box's face. A cycle
+// on a face (the fixed point (5/6, 0) of the product of x → 6x(1−x) and
+// y → 5y(1−y)) comes out of Newton's iteration on either side of it, by
+// rounding: from outside, 1e-18 below y = 0, it was lost.
+func snapInside(sys *dynsys.System, points []float64, n int, tol float64) bool {
 	d := sys.Dim()
 	for i := range n {
+		for k := range d {
+			v := &points[i*d+k]
+			switch {
+			case *v < sys.Lo[k] && sys.Lo[k]-*v <= tol:
+				*v = sys.Lo[k]
+			case *v > sys.Hi[k] && *v-sys.Hi[k] <= tol:
+				*v = sys.Hi[k]
+			}
+		}
 		if !sys.Inside(points[i*d : (i+1)*d]) {
 			return false
 		}
