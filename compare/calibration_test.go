@@ -49,6 +49,9 @@ var calibrationCases = []calibrationCase{
 	{system: "gauss", quantity: dynsys.Lyapunov, ulam: true, galerkin: true, chebyshev: true},
 	{system: "gauss", quantity: dynsys.Mean, ulam: true, galerkin: true, chebyshev: true},
 	{system: "henon", quantity: dynsys.Eigenvalues, ulam: true},
+	// A 2D cycle expansion with a known value, at check's default length
+	// for d ≥ 2.
+	{system: "skew-cantor", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 8},
 	// Decay rates: λ_1 on analytic functions, which plain Ulam and the
 	// cells basis do not estimate (they see the operator on functions
 	// with jumps; see check's note).

@@ -40,8 +40,9 @@
 // others geometrically. A parabola (concave) or a line is fitted to ln|d_n|
 // over the last FitPoints differences; the future differences are
 // predicted from it, with the sign pattern of the last ratios d_{n+1}/d_n
-// (monotone or alternating; irregular signs give status Irregular and a
-// value without tail), and their sum, the tail, is added to the last
+// (monotone or alternating; irregular signs give status Irregular, a
+// value without tail and TailFactor times the predicted sum of |d| as the
+// error), and their sum, the tail, is added to the last
 // estimate. The fit is back-tested: fitted on the windows ending one and two
 // steps earlier, it predicts the next ln|d|; the larger miss δ is the
 // uncertainty of the predicted decay. The error is TailFactor times the
