@@ -196,6 +196,40 @@ func TestHorseshoeNecklace(t *testing.T) {
 	}
 }
 
+// TestCyclesOnFaces: the product of x → 6x(1−x) and y → 5y(1−y) on the
+// unit square is a complete four-symbol shift (each factor is a complete
+// two-symbol repeller), so its prime-cycle counts are the necklace numbers
+// of four letters (C. Moreau 1872, common practice); its fixed points are
+// the products of the factors' 0, 5/6 and 0, 4/5, three of them on faces
+// of the box. Newton's iteration converges to (5/6, 0) from just below
+// y = 0, by rounding: it must be kept, on the face.
+func TestCyclesOnFaces(t *testing.T) {
+	s, err := dynsys.Parse("product.toml", []byte(`name = "product"
+vars = ["x", "y"]
+map = ["6*x*(1-x)", "5*y*(1-y)"]
+domain = [[0.0, 1.0], [0.0, 1.0]]
+symbols = "(x > 0.5) + 2*(y > 0.5)"
+`), nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res := search(t, s, &SearchSettings{MaxLen: 3})
+	for _, c := range res.Counts {
+		if want, _ := LyndonCount(4, c.Length); c.PrimeCycles != want || c.Note != "" {
+			t.Errorf("length %d: %d prime cycles, want %d (%s)", c.Length, c.PrimeCycles, want, c.Note)
+		}
+	}
+	found := false
+	for _, c := range res.Cycles {
+		if c.Len == 1 && math.Abs(c.Point[0]-5.0/6) < 1e-12 && c.Point[1] == 0 {
+			found = true
+		}
+	}
+	if !found {
+		t.Error("the fixed point (5/6, 0) on the face y = 0 is missing")
+	}
+}
+
 // goldenTent is the tent map of slope φ = (1+√5)/2 restricted to its core
 // [f²(c), f(c)] = [(φ−1)/2, φ/2]; forbidden is the file's grammar line.
 func goldenTent(t testing.TB, forbidden string) *dynsys.System {
