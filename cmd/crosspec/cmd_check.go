@@ -467,18 +467,13 @@ func (r *checkResult) estimateUlam() compare.Estimate {
 
 // estimateGalerkin extrapolates the values of a higher-order basis over its
 // sequence of sizes (compare.GalerkinWithFloors, on the index of the size),
-// with their round-off floors when every run has one.
+// with their round-off floors (zero where none is known).
 func (r *checkResult) estimateGalerkin() compare.Estimate {
 	steps := make([]int, len(r.galerkinRuns))
 	values := make([]float64, len(r.galerkinRuns))
 	floors := make([]float64, len(r.galerkinRuns))
-	all := true
 	for i, run := range r.galerkinRuns {
 		steps[i], values[i], floors[i] = i+1, run.Value, run.Floor
-		all = all && run.Floor > 0
-	}
-	if !all {
-		floors = nil
 	}
 	return compare.GalerkinWithFloors(steps, values, floors, nil)
 }
