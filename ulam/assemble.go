@@ -17,10 +17,13 @@ type Settings struct {
 	Cells int
 	// Shape sets the cells per dimension exactly. Default nil (from Cells).
 	Shape []int
-	// Points is the number of test points per cell in d ≥ 2 dimensions,
-	// placed on a tensor grid of q^d points at the centres of a q×…×q
-	// subdivision of the cell, q = round(Points^(1/d)) (at least 1).
-	// Default 16.
+	// Points, when positive, makes a map of d ≥ 2 dimensions assembled
+	// from Points test points per cell, placed on a tensor grid of q^d
+	// points at the centres of a q×…×q subdivision of the cell,
+	// q = round(Points^(1/d)) (at least 1). Default 0: a 2D map is
+	// assembled from piecewise-affine images of its cells (see
+	// assembleAffine2D), which converges as the cells shrink where test
+	// points do not; a map of d ≥ 3 dimensions from 16 test points.
 	Points int
 	// Observable is the a(x) of the weight w = exp(β a). Default
 	// NoObservable (w = 1).
@@ -48,8 +51,8 @@ func (s *Settings) withDefaults() Settings {
 	if out.Cells <= 0 {
 		out.Cells = 1024
 	}
-	if out.Points <= 0 {
-		out.Points = 16
+	if out.Points < 0 {
+		out.Points = 0
 	}
 	if out.Quadrature <= 0 {
 		out.Quadrature = 8
@@ -62,7 +65,8 @@ var ErrTooLarge = errors.New("ulam: grid too large")
 
 // Assemble builds the Ulam transfer matrix of sys (see Matrix for the
 // convention), restricted as Settings.Restrict says. A 1D map is assembled
-// exactly from its laps; a d-dimensional one by test points.
+// exactly from its laps, a 2D one from piecewise-affine images of its cells
+// (or test points, Settings.Points), one of d ≥ 3 dimensions by test points.
 func Assemble(sys *dynsys.System, settings *Settings) (*Matrix, error) {
 	set := settings.withDefaults()
 	g, err := gridFor(sys, &set)
@@ -74,9 +78,15 @@ func Assemble(sys *dynsys.System, settings *Settings) (*Matrix, error) {
 		return nil, err
 	}
 	var m *Matrix
-	if sys.Dim() == 1 {
+	switch {
+	case sys.Dim() == 1:
 		m, err = assemble1D(sys, g, wt, &set)
-	} else {
+	case sys.Dim() == 2 && set.Points == 0:
+		m, err = assembleAffine2D(sys, g, wt)
+	default:
+		if set.Points == 0 {
+			set.Points = 16
+		}
 		m, err = assembleSampled(sys, g, wt, &set)
 	}
 	if err != nil {

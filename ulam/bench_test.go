@@ -89,6 +89,7 @@ func BenchmarkAssemblePeak1e6(b *testing.B) {
 	}{
 		{"1D", "logistic-repeller", Settings{Cells: 1_000_000, Restrict: RestrictNone}},
 		{"Henon", "henon", Settings{Shape: []int{1024, 1024}, Points: 16, Restrict: RestrictNone}},
+		{"HenonAffine", "henon", Settings{Shape: []int{1024, 1024}, Restrict: RestrictNone}},
 	}
 	sample := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
 	heap := func() int64 {
@@ -268,3 +269,9 @@ func pageFaults() int64 {
 }
 
 func itoa(n int) string { return string(rune('0' + n)) }
+
+// BenchmarkAssembleHenonAffine1e6 assembles the Hénon map's 1024×1024
+// matrix from piecewise-affine images of the cells (the 2D default).
+func BenchmarkAssembleHenonAffine1e6(b *testing.B) {
+	benchmarkAssemble(b, open(b, "henon"), &Settings{Shape: []int{1024, 1024}, Restrict: RestrictNone})
+}

@@ -36,10 +36,21 @@
 // reported (Matrix.ExcludedLength), and in a closed system their mass,
 // with the integrals of w and a·w over them, is given the distribution of
 // the rest of their cell, or of the nearest resolved cell for a cell they
-// cover. A map of dimension
-// d ≥ 2 is assembled from a tensor grid of test points per cell (the
-// midpoint rule for the same integral), their images located by index
-// arithmetic; points leaving the box escape.
+// cover.
+//
+// A map of dimension 2 is assembled from piecewise-affine images: each cell
+// is cut into two triangles, the map replaced on each by the affine map
+// through the images of its corners, and the image triangle clipped against
+// the grid, so the entries are exact for piecewise-affine maps and have
+// errors of order h in the cell width h for smooth ones; triangles on which
+// the map bends by more than a quarter of a cell (a jump) are cut into four
+// first, up to ten times. With
+// Settings.Points > 0, and in d ≥ 3, a map is assembled from a tensor grid
+// of test points per cell (the midpoint rule for the same integral), their
+// images located by index arithmetic: faster, but each entry then carries a
+// counting error of order 1/q for q points a side that does not shrink with
+// the cells, so escape rates of open maps stop converging. Images leaving
+// the box escape.
 //
 // Both assemblies run in parallel over fixed blocks of cells and write each
 // block's entries into its own slot, so the matrix is the same whatever the

@@ -517,6 +517,8 @@ func TestDeterministic(t *testing.T) {
 		{"logistic-repeller", Settings{Cells: 40000, Restrict: RestrictNone, Observable: SystemObservable, Beta: 0.5, Derivative: true}},
 		{"gauss", Settings{Cells: 5000, Restrict: RestrictNone}},
 		{"henon", Settings{Shape: []int{200, 100}, Restrict: RestrictNone}},
+		{"henon", Settings{Shape: []int{200, 100}, Restrict: RestrictNone, Points: 16}},
+		{"horseshoe", Settings{Shape: []int{300, 300}, Restrict: RestrictNone, Observable: LogExpansion, Beta: 0.5, Derivative: true}},
 	} {
 		s := open(t, c.system)
 		old := runtime.GOMAXPROCS(1)

@@ -1,0 +1,483 @@
+package ulam
+
+import (
+	"math"
+	"runtime"
+	"slices"
+
+	"crosspec/dynsys"
+)
+
+// affineMaxDepth is how many times a triangle is cut into four when the
+// map is not close to affine on it (a jump, strong curvature);
+// beyond that, the image of its centroid takes the whole triangle.
+const affineMaxDepth = 10
+
+// affineChunk is the number of cells whose lattice points are mapped in
+// one batch.
+const affineChunk = 64
+
+// affineBend is the largest distance, in cells of the grid, between the
+// image of an edge's midpoint and the midpoint of the chord between the
+// images of its ends before the triangle is cut. An affine map has none; a
+// smooth one on a triangle of width h has at most h²/8 times its largest
+// second derivative, a small fraction of a cell on the grids crosspec
+// uses, so in practice jumps cut triangles, and curvature only on grids too
+// coarse to resolve the map. (A fold bends a triangle no more than the
+// curvature does: it is not detected, and the cells it crosses get the
+// affine map's unfolded image.)
+const affineBend = 0.25
+
+// assembleAffine2D builds the Ulam matrix of a 2D map from piecewise-affine
+// images, not test points. Each cell is cut along its diagonal into two
+// triangles; on each, the map is replaced by the affine map through the
+// images of the triangle's corners, and the image triangle is clipped
+// against the grid. The fraction of its area in cell j is the fraction of
+// the source triangle that lands in B_j, exactly for an affine map, so
+// P_ij = (1/m(B_i)) Σ_triangles ∫_{T ∩ f⁻¹(B_j)} w is exact for
+// piecewise-affine maps whose pieces the grid resolves, and has an error of
+// order h² in position (h the cell width) for smooth ones. Test points
+// instead give each entry a counting error of order 1/q for q points per
+// side that does not shrink with h: the Ulam estimates of an open system
+// then stop converging (measured on the catalog's skew-cantor and
+// horseshoe, see the README).
+//
+// The weight w and a·w are interpolated linearly from the triangle's
+// corners and integrated exactly over each piece. Parts of the image
+// outside the box escape; for a closed system (whose box is invariant) the
+// pieces inside are scaled up to the whole image instead, so rows keep
+// their mass where the affine image pokes out of the box.
+func assembleAffine2D(sys *dynsys.System, g Grid, wt weight) (*Matrix, error) {
+	n := g.Cells()
+	blocks := (n + sampledCells - 1) / sampledCells
+	type block struct {
+		rowLen []int
+		col    []int
+		val    []float64
+		deriv  []float64
+	}
+	out := make([]block, blocks)
+	workers := make([]*affineAssembler, runtime.GOMAXPROCS(0))
+	forEachBlock(blocks, func(worker, b int) {
+		a := workers[worker]
+		if a == nil {
+			a = newAffineAssembler(sys, g, wt)
+			workers[worker] = a
+		}
+		c0, c1 := b*sampledCells, min((b+1)*sampledCells, n)
+		// A cell's image typically meets a few cells.
+		want := 4 * (c1 - c0)
+		o := block{rowLen: make([]int, 0, c1-c0), col: make([]int, 0, want), val: make([]float64, 0, want)}
+		if wt.deriv {
+			o.deriv = make([]float64, 0, want)
+		}
+		for c := c0; c < c1; c += affineChunk {
+			a.chunk(c, min(c+affineChunk, c1), func(t []int, v, dv []float64) {
+				o.rowLen = append(o.rowLen, len(t))
+				o.col = append(o.col, t...)
+				o.val = append(o.val, v...)
+				if wt.deriv {
+					o.deriv = append(o.deriv, dv...)
+				}
+			})
+		}
+		out[b] = o
+	})
+	// Join the blocks in order into arrays of the final size.
+	nnz := 0
+	for _, o := range out {
+		nnz += len(o.col)
+	}
+	m := &Matrix{Grid: g, GridCells: n, RowPtr: make([]int, n+1), Cells: make([]int, n),
+		Col: make([]int, 0, nnz), Val: make([]float64, 0, nnz)}
+	if wt.deriv {
+		m.Derivative = make([]float64, 0, nnz)
+	}
+	row := 0
+	for b, o := range out {
+		for _, l := range o.rowLen {
+			m.Cells[row] = row
+			m.RowPtr[row+1] = m.RowPtr[row] + l
+			row++
+		}
+		m.Col = append(m.Col, o.col...)
+		m.Val = append(m.Val, o.val...)
+		m.Derivative = append(m.Derivative, o.deriv...)
+		out[b] = block{}
+	}
+	return m, nil
+}
+
+// vec2 is a point of the plane.
+type vec2 struct{ x, y float64 }
+
+// corner is a triangle's corner: the point, its image in cell units of the
+// grid, and the weights w and a·w there.
+type corner struct {
+	p, f  vec2
+	w, aw float64
+}
+
+// affineAssembler holds one goroutine's scratch space for assembleAffine2D.
+type affineAssembler struct {
+	sys    *dynsys.System
+	g      Grid
+	wt     weight
+	closed bool
+	h      vec2 // cell widths
+	inv    vec2 // cells per unit length
+	xs, ys []float64
+	buf    []float64 // one point and its image
+	// The targets of the current cell and their sums of w and a·w
+	// (times the source triangles' area in cells).
+	tg    []int
+	w, aw []float64
+	// The pieces of the current triangle's image, with their integrals,
+	// before they are added to the targets (a closed system rescales them).
+	pieces []imagePiece
+	poly   [2]polygon
+}
+
+// imagePiece is the part of an image triangle in one cell.
+type imagePiece struct {
+	cell  int
+	area  float64 // in cells
+	w, aw float64 // integrals of the interpolated w and a·w, in cells
+}
+
+func newAffineAssembler(sys *dynsys.System, g Grid, wt weight) *affineAssembler {
+	return &affineAssembler{
+		sys: sys, g: g, wt: wt.clone(), closed: sys.Closed,
+		inv: vec2{float64(g.Shape[0]) / (g.Hi[0] - g.Lo[0]), float64(g.Shape[1]) / (g.Hi[1] - g.Lo[1])},
+		xs:  make([]float64, affineChunk*9*2),
+		ys:  make([]float64, affineChunk*9*2),
+		buf: make([]float64, 4),
+	}
+}
+
+// chunk assembles the rows of the cells c0 … c1−1 and hands each, sorted
+// by target, to emit (whose slices are reused afterwards).
+func (a *affineAssembler) chunk(c0, c1 int, emit func(targets []int, val, deriv []float64)) {
+	g := a.g
+	m1 := g.Shape[1]
+	// The 3×3 lattice of each cell: corners, edge midpoints, centre.
+	p := 0
+	for c := c0; c < c1; c++ {
+		// The cell's edges as Edge gives them, so that neighbouring cells
+		// map the same points.
+		i0, i1 := c/m1, c%m1
+		xe := [3]float64{g.Edge(0, i0), 0, g.Edge(0, i0+1)}
+		ye := [3]float64{g.Edge(1, i1), 0, g.Edge(1, i1+1)}
+		xe[1], ye[1] = 0.5*(xe[0]+xe[2]), 0.5*(ye[0]+ye[2])
+		for _, x := range xe {
+			for _, y := range ye {
+				a.xs[p], a.xs[p+1] = x, y
+				p += 2
+			}
+		}
+	}
+	xs, ys := a.xs[:p], a.ys[:p]
+	a.sys.MapBatch(ys, xs)
+	var order, targets []int
+	var val, deriv []float64
+	for c := c0; c < c1; c++ {
+		base := (c - c0) * 18
+		var lat [9]corner
+		for k := range lat {
+			q := base + 2*k
+			lat[k] = a.corner(vec2{xs[q], xs[q+1]}, vec2{ys[q], ys[q+1]})
+		}
+		// lat[3s+t] is the point (s, t) halves of a cell from the corner.
+		a.tg, a.w, a.aw = a.tg[:0], a.w[:0], a.aw[:0]
+		a.triangle([3]corner{lat[0], lat[6], lat[8]}, [3]corner{lat[3], lat[7], lat[4]}, 0.5, 0)
+		a.triangle([3]corner{lat[0], lat[8], lat[2]}, [3]corner{lat[4], lat[5], lat[1]}, 0.5, 0)
+		order = order[:0]
+		for k := range a.tg {
+			order = append(order, k)
+		}
+		slices.SortFunc(order, func(i, j int) int { return a.tg[i] - a.tg[j] })
+		targets, val, deriv = targets[:0], val[:0], deriv[:0]
+		for _, k := range order {
+			targets = append(targets, a.tg[k])
+			val = append(val, a.w[k])
+			deriv = append(deriv, a.aw[k])
+		}
+		emit(targets, val, deriv)
+	}
+}
+
+// corner returns the corner at p whose image is f, in cell units.
+func (a *affineAssembler) corner(p, f vec2) corner {
+	g := a.g
+	c := corner{p: p, f: vec2{
+		snap((f.x - g.Lo[0]) * a.inv.x),
+		snap((f.y - g.Lo[1]) * a.inv.y),
+	}, w: 1}
+	if !a.wt.uniform {
+		a.buf[0], a.buf[1] = p.x, p.y
+		c.w, c.aw = a.wt.at(a.buf[:2])
+	}
+	return c
+}
+
+// snap puts a coordinate within 1e-9 of a cell edge on it: the images of
+// a grid's edges under a map that the grid resolves exactly (a
+// piecewise-affine one with its breaks on edges) land on edges but for
+// round-off, which would otherwise leave slivers in the neighbouring cells.
+func snap(u float64) float64 {
+	if r := math.Round(u); math.Abs(u-r) <= 1e-9 {
+		return r
+	}
+	return u
+}
+
+// eval returns the corner at p, mapping it.
+func (a *affineAssembler) eval(p vec2) corner {
+	a.buf[0], a.buf[1] = p.x, p.y
+	a.sys.Map(a.buf[2:4], a.buf[:2])
+	return a.corner(p, vec2{a.buf[2], a.buf[3]})
+}
+
+// triangle adds the triangle v (with the corners mid at the midpoints of
+// its edges v0v1, v1v2, v2v0) to the current row; area is its area in
+// cells.
+func (a *affineAssembler) triangle(v, mid [3]corner, area float64, depth int) {
+	if !a.straddles(v, mid) {
+		return // the whole image escapes
+	}
+	finite := 0
+	for k := range 3 {
+		for _, f := range [2]vec2{v[k].f, mid[k].f} {
+			if !math.IsNaN(f.x) && !math.IsNaN(f.y) {
+				finite++
+			}
+		}
+	}
+	if finite == 0 {
+		return // no image: the map is undefined there
+	}
+	bent := false
+	for k := range 3 {
+		f0, f1, fm := v[k].f, v[(k+1)%3].f, mid[k].f
+		if !(math.Abs(fm.x-0.5*(f0.x+f1.x)) <= affineBend && math.Abs(fm.y-0.5*(f0.y+f1.y)) <= affineBend) {
+			bent = true // also when an image is not finite
+		}
+	}
+	if bent {
+		if depth < affineMaxDepth {
+			a.split(v, mid, area, depth)
+			return
+		}
+		a.point(v, area)
+		return
+	}
+	a.clip(v, area)
+}
+
+// straddles reports whether the images of the corners and midpoints do not
+// all lie beyond one side of the box: the image may then cross it. (An
+// image that is not finite lies beyond no side.)
+func (a *affineAssembler) straddles(v, mid [3]corner) bool {
+	m0, m1 := float64(a.g.Shape[0]), float64(a.g.Shape[1])
+	var left, right, below, above int
+	for k := range 3 {
+		for _, f := range [2]vec2{v[k].f, mid[k].f} {
+			if f.x <= 0 {
+				left++
+			}
+			if f.x >= m0 {
+				right++
+			}
+			if f.y <= 0 {
+				below++
+			}
+			if f.y >= m1 {
+				above++
+			}
+		}
+	}
+	return left < 6 && right < 6 && below < 6 && above < 6
+}
+
+// split cuts the triangle into four at its edges' midpoints.
+func (a *affineAssembler) split(v, mid [3]corner, area float64, depth int) {
+	half := func(p, q corner) corner {
+		return a.eval(vec2{0.5 * (p.p.x + q.p.x), 0.5 * (p.p.y + q.p.y)})
+	}
+	kids := [4][3]corner{
+		{v[0], mid[0], mid[2]},
+		{mid[0], v[1], mid[1]},
+		{mid[2], mid[1], v[2]},
+		{mid[0], mid[1], mid[2]},
+	}
+	for _, k := range kids {
+		a.triangle(k, [3]corner{half(k[0], k[1]), half(k[1], k[2]), half(k[2], k[0])}, area/4, depth+1)
+	}
+}
+
+// point gives the whole triangle to the cell of its centroid's image.
+func (a *affineAssembler) point(v [3]corner, area float64) {
+	c := a.eval(vec2{(v[0].p.x + v[1].p.x + v[2].p.x) / 3, (v[0].p.y + v[1].p.y + v[2].p.y) / 3})
+	i, j := math.Floor(c.f.x), math.Floor(c.f.y)
+	m0, m1 := float64(a.g.Shape[0]), float64(a.g.Shape[1])
+	if !(i >= 0 && i < m0 && j >= 0 && j < m1) {
+		return
+	}
+	a.add(int(i)*a.g.Shape[1]+int(j), area*c.w, area*c.aw)
+}
+
+// clip adds the pieces of the affine image of the triangle v in the grid's
+// cells.
+func (a *affineAssembler) clip(v [3]corner, area float64) {
+	f0, f1, f2 := v[0].f, v[1].f, v[2].f
+	total := 0.5 * ((f1.x-f0.x)*(f2.y-f0.y) - (f2.x-f0.x)*(f1.y-f0.y))
+	if !(math.Abs(total) > 1e-12) {
+		// The image is a segment (a fold of the map, or a contraction to
+		// far below a cell): no area to share out.
+		a.point(v, area)
+		return
+	}
+	m0, m1 := a.g.Shape[0], a.g.Shape[1]
+	lo0 := max(0, int(math.Floor(min(f0.x, f1.x, f2.x))))
+	hi0 := min(m0-1, int(math.Ceil(max(f0.x, f1.x, f2.x)))-1)
+	a.pieces = a.pieces[:0]
+	inBox := 0.0
+	tri := polygon{n: 3}
+	for k := range 3 {
+		tri.x[k], tri.y[k] = v[k].f.x, v[k].f.y
+	}
+	for i := lo0; i <= hi0; i++ {
+		col := &a.poly[0]
+		if !tri.clip(col, 0, float64(i), float64(i+1)) {
+			continue
+		}
+		ylo, yhi := col.yRange()
+		lo1, hi1 := max(0, int(math.Floor(ylo))), min(m1-1, int(math.Ceil(yhi))-1)
+		for j := lo1; j <= hi1; j++ {
+			cell := &a.poly[1]
+			if !col.clip(cell, 1, float64(j), float64(j+1)) {
+				continue
+			}
+			ar, cx, cy := cell.moments()
+			if !(ar > 1e-14*math.Abs(total)) {
+				continue
+			}
+			// Barycentric coordinates of the piece's centroid in the image
+			// triangle give the interpolated w and a·w there.
+			l1 := ((cx-f0.x)*(f2.y-f0.y) - (f2.x-f0.x)*(cy-f0.y)) / (2 * total)
+			l2 := ((f1.x-f0.x)*(cy-f0.y) - (cx-f0.x)*(f1.y-f0.y)) / (2 * total)
+			l0 := 1 - l1 - l2
+			pc := imagePiece{cell: i*m1 + j, area: ar, w: ar, aw: 0}
+			if !a.wt.uniform {
+				pc.w = ar * (l0*v[0].w + l1*v[1].w + l2*v[2].w)
+				pc.aw = ar * (l0*v[0].aw + l1*v[1].aw + l2*v[2].aw)
+			}
+			a.pieces = append(a.pieces, pc)
+			inBox += ar
+		}
+	}
+	scale := area / math.Abs(total)
+	if a.closed && inBox > 0 {
+		scale = area / inBox
+	}
+	for _, pc := range a.pieces {
+		a.add(pc.cell, scale*pc.w, scale*pc.aw)
+	}
+}
+
+// add adds w and a·w to the current row's entry for the target cell.
+func (a *affineAssembler) add(cell int, w, aw float64) {
+	for k, t := range a.tg {
+		if t == cell {
+			a.w[k] += w
+			a.aw[k] += aw
+			return
+		}
+	}
+	a.tg = append(a.tg, cell)
+	a.w = append(a.w, w)
+	a.aw = append(a.aw, aw)
+}
+
+// polygon is a convex polygon of at most 7 corners: a triangle clipped by
+// the four sides of a cell.
+type polygon struct {
+	x, y [8]float64
+	n    int
+}
+
+// clip writes into dst the part of the polygon with lo ≤ coordinate axis ≤
+// hi (Sutherland–Hodgman, one pair of parallel lines) and reports whether
+// it has any corners.
+func (p *polygon) clip(dst *polygon, axis int, lo, hi float64) bool {
+	var mid polygon
+	p.half(&mid, axis, lo, 1)
+	mid.half(dst, axis, hi, -1)
+	return dst.n >= 3
+}
+
+// half writes into dst the part of the polygon with sign·(coordinate − at)
+// ≥ 0.
+func (p *polygon) half(dst *polygon, axis int, at, sign float64) {
+	dst.n = 0
+	if p.n == 0 {
+		return
+	}
+	coord := func(k int) float64 {
+		if axis == 0 {
+			return sign * (p.x[k] - at)
+		}
+		return sign * (p.y[k] - at)
+	}
+	prev := p.n - 1
+	dp := coord(prev)
+	for k := range p.n {
+		dk := coord(k)
+		if (dk >= 0) != (dp >= 0) {
+			// The side crosses the line: add the crossing, exactly on it.
+			t := dp / (dp - dk)
+			x := p.x[prev] + t*(p.x[k]-p.x[prev])
+			y := p.y[prev] + t*(p.y[k]-p.y[prev])
+			if axis == 0 {
+				x = at
+			} else {
+				y = at
+			}
+			dst.x[dst.n], dst.y[dst.n] = x, y
+			dst.n++
+		}
+		if dk >= 0 {
+			dst.x[dst.n], dst.y[dst.n] = p.x[k], p.y[k]
+			dst.n++
+		}
+		prev, dp = k, dk
+	}
+}
+
+// yRange returns the smallest and largest second coordinate.
+func (p *polygon) yRange() (lo, hi float64) {
+	lo, hi = p.y[0], p.y[0]
+	for k := 1; k < p.n; k++ {
+		lo, hi = min(lo, p.y[k]), max(hi, p.y[k])
+	}
+	return lo, hi
+}
+
+// moments returns the area and the centroid, by the shoelace formulas
+// about the first corner.
+func (p *polygon) moments() (area, cx, cy float64) {
+	x0, y0 := p.x[0], p.y[0]
+	var a2, sx, sy float64
+	for k := 1; k+1 < p.n; k++ {
+		ax, ay := p.x[k]-x0, p.y[k]-y0
+		bx, by := p.x[k+1]-x0, p.y[k+1]-y0
+		cr := ax*by - bx*ay
+		a2 += cr
+		sx += cr * (ax + bx)
+		sy += cr * (ay + by)
+	}
+	if a2 == 0 {
+		return 0, x0, y0
+	}
+	return math.Abs(a2) / 2, x0 + sx/(3*a2), y0 + sy/(3*a2)
+}
