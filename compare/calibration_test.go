@@ -94,8 +94,6 @@ func TestCalibration(t *testing.T) {
 		if c.ulam {
 			runCells := cells
 			switch {
-			case s.Dim() > 1:
-				runCells = cells[:8]
 			case c.system == "gauss":
 				// Exact Ulam for the Gauss map has about 2 N^1.5 nonzeros
 				// (its rows near 0 are dense), so it stops at 2^14.

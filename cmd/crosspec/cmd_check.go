@@ -54,7 +54,7 @@ reproduce the run.`,
 		fs.Var(params, "param", "override a parameter, NAME=VALUE (repeatable)")
 		quantity := fs.String("quantity", "", "quantity: "+quantityNames()+" (default escape-rate for open systems, lyapunov for closed 1D maps, eigenvalues otherwise)")
 		cells := fs.String("cells", "", "comma-separated Ulam cell counts (default 1024 doubling to 262144 in 1D, to 65536 in 2D)")
-		points := fs.Int("points", 16, "test points per cell for maps of dimension d >= 2")
+		points := fs.Int("points", 0, "test points per cell for maps of dimension d >= 2 (0: piecewise-affine images of the cells in 2D, 16 points in d >= 3)")
 		opts := checkOptions{}
 		fs.IntVar(&opts.expand.maxLen, "max-len", 0, "longest cycle length (default 12 in 1D, 8 otherwise)")
 		fs.StringVar(&opts.expand.cycleFile, "cycles", "", "read the cycles from `FILE` instead of searching")
@@ -92,8 +92,8 @@ reproduce the run.`,
 			if opts.expand.function, err = parseExpansion(*function); err != nil {
 				return e.fail(err)
 			}
-			if !(opts.tol > 0) || *points < 1 || opts.eigs < 1 {
-				return e.fail(usagef("--tol, --points and --eigs must be positive"))
+			if !(opts.tol > 0) || *points < 0 || opts.eigs < 1 {
+				return e.fail(usagef("--tol and --eigs must be positive, --points at least 0"))
 			}
 			s, err := openSystem(args, params)
 			if err != nil {

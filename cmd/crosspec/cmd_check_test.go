@@ -156,7 +156,8 @@ func TestCheckErrors(t *testing.T) {
 		{[]string{"check", "cantor", "--quantity", "mean"}, "crosspec check: quantity mean needs an observable"},
 		{[]string{"check", "cantor", "--plot", "out.pdf"}, `crosspec check: plot file "out.pdf": expected a name ending in .svg or .png`},
 		{[]string{"check", "cantor", "--cells", "1024,x"}, "crosspec check: --cells"},
-		{[]string{"check", "cantor", "--tol", "0"}, "crosspec check: --tol, --points and --eigs must be positive"},
+		{[]string{"check", "cantor", "--tol", "0"}, "crosspec check: --tol and --eigs must be positive, --points at least 0"},
+		{[]string{"check", "horseshoe", "--points", "-1"}, "crosspec check: --tol and --eigs must be positive, --points at least 0"},
 	}
 	for _, c := range cases {
 		code, _, stderr := runCLI(c.args...)

@@ -27,8 +27,12 @@ map sends into cell j, weighted by exp(beta a)) is built, restricted to the
 cells that carry the dynamics, and its leading eigenvalues are computed
 (from the irreducible diagonal blocks of the matrix, each solved alone: a
 matrix on a whole grid, --restrict none, is mostly transient cells).
-1D maps are assembled exactly from their monotone laps; maps of dimension
-d >= 2 from --points test points per cell.
+1D maps are assembled exactly from their monotone laps; 2D maps from the
+images of the cells' two triangles under the affine map through their
+corners' images (exact for piecewise-affine maps), or from --points test
+points per cell when --points is given (faster, but with a counting error
+that does not shrink with the cells); maps of dimension d >= 3 from test
+points (16 by default).
 
 --export and --density write the matrix and the leading density of the last
 (largest) grid. The Matrix Market file holds P with rows = source cells; the
@@ -38,7 +42,7 @@ transfer operator acting on densities is its transpose.`,
 		fs.Var(params, "param", "override a parameter, NAME=VALUE (repeatable)")
 		cells := fs.String("cells", "1024,4096", "comma-separated cell counts, one run each")
 		grids := fs.String("grid", "", "comma-separated exact grid shapes such as 1024x512 (overrides --cells)")
-		points := fs.Int("points", 16, "test points per cell for maps of dimension d >= 2")
+		points := fs.Int("points", 0, "test points per cell for maps of dimension d >= 2 (0: piecewise-affine images of the cells in 2D, 16 points in d >= 3)")
 		eigs := fs.Int("eigs", 1, "number of leading eigenvalues to report")
 		beta := fs.Float64("beta", 0, "inverse temperature beta of the weight exp(beta a)")
 		quantity := fs.String("quantity", string(dynsys.Eigenvalues), "quantity to estimate: "+quantityNames())
@@ -62,8 +66,8 @@ transfer operator acting on densities is its transpose.`,
 			if err != nil {
 				return e.fail(usagef("--restrict %q: expected auto, none, survivors, cycles or recurrent", *restrict))
 			}
-			if *eigs < 1 || *points < 1 {
-				return e.fail(usagef("--eigs and --points must be at least 1"))
+			if *eigs < 1 || *points < 0 {
+				return e.fail(usagef("--eigs must be at least 1, --points at least 0"))
 			}
 			if !(*tol > 0 && *tol < 1) {
 				return e.fail(usagef("--tol %g: expected a number in (0, 1)", *tol))
