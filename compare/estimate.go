@@ -169,6 +169,16 @@ type Settings struct {
 	// differ by up to twice that: Ulam's round-off level is at least
 	// 2·SolverTol. Default 1e-12, the solvers' default.
 	SolverTol float64
+
+	// NonMonotone says that the differences of a cycle expansion decay
+	// non-monotonically, as those of maps of dimension d ≥ 2 do as a rule
+	// (a later difference may exceed an earlier one), so that no fit to
+	// the past differences bounds the next: Cycles then makes the error
+	// of a Converged or Irregular estimate at least TailFactor times the
+	// last difference, the sum of differences to come if the next is as
+	// large as the last and the rest shrink by 2/3 a step on average.
+	// Default false.
+	NonMonotone bool
 }
 
 func (s *Settings) withDefaults() Settings {
