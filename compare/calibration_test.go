@@ -157,8 +157,9 @@ func TestCalibration(t *testing.T) {
 				values = append(values, o.Value)
 				floors = append(floors, o.Floor)
 			}
-			// With the expansion's round-off floors, as check does.
-			est := compare.CyclesWithFloors(orders, values, floors, nil)
+			// With the expansion's round-off floors, and for d ≥ 2 the
+			// non-monotone steps' error rule, as check does.
+			est := compare.CyclesWithFloors(orders, values, floors, &compare.Settings{NonMonotone: s.Dim() >= 2})
 			cases = append(cases, compare.Case{Label: fmt.Sprintf("%s %s cycles (%s)", c.system, c.quantity, source), Truth: truth, Estimate: est})
 		}
 	}

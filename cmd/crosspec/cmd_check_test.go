@@ -311,3 +311,57 @@ func TestCheckDecayRateBases(t *testing.T) {
 		t.Errorf("doubling, plain Ulam against cycles: verdict %v", field(t, doc, "verdict"))
 	}
 }
+
+// TestCheckTwoDimensionalAgree: skew-cantor, the product of the skew tent
+// and the Cantor map, has the escape rate ln 2 (the factors' escape rates
+// add; common practice, no source). Its 2D Ulam matrices from triangles are
+// exact on every grid, and its cycle expansion to check's 2D default length
+// 8 converges with irregular, non-monotone steps, which is the nature of
+// 2D expansions: check must confirm the agreement (it called every 2D
+// comparison inconclusive before), with a cycle bar that contains ln 2.
+func TestCheckTwoDimensionalAgree(t *testing.T) {
+	code, stdout, stderr := runCLI("check", "skew-cantor", "--cells", "1024,2048,4096,8192", "--format", "json")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var doc map[string]any
+	if err := json.Unmarshal([]byte(stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	if v := doc["verdict"]; v != "agree" {
+		t.Errorf("verdict %v, want agree: %v", v, doc["reasons"])
+	}
+	v, e := field(t, doc, "cycles", "estimate").(float64), field(t, doc, "cycles", "error").(float64)
+	if !(math.Abs(v-math.Ln2) <= e) {
+		t.Errorf("cycles %.15g ± %.2g does not contain ln 2", v, e)
+	}
+	if u := field(t, doc, "ulam", "estimate").(float64); math.Abs(u-math.Ln2) > 1e-12 {
+		t.Errorf("Ulam %.15g, want ln 2 to the solver's 1e-12", u)
+	}
+}
+
+// TestCheckShortSearchDoubted: below the complete-horseshoe parameters the
+// area-preserving quadratic map is pruned (R. Devaney and Z. Nitecki, 1979,
+// from memory, as in the catalog file); at a = 5.5 the search finds fewer
+// cycles than the two-symbol count predicts, and the verdict must say that
+// the expansion misses terms.
+func TestCheckShortSearchDoubted(t *testing.T) {
+	code, stdout, stderr := runCLI("check", "horseshoe", "--param", "a=5.5", "--cells", "1024,2048,4096", "--format", "json")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var doc struct {
+		Verdict string   `json:"verdict"`
+		Reasons []string `json:"reasons"`
+	}
+	if err := json.Unmarshal([]byte(stdout), &doc); err != nil {
+		t.Fatal(err)
+	}
+	said := false
+	for _, r := range doc.Reasons {
+		said = said || strings.Contains(r, "fewer cycles than the symbolic dynamics predicts")
+	}
+	if !said || doc.Verdict == "agree" {
+		t.Errorf("verdict %q, reasons %q: want the short search named and no agreement", doc.Verdict, doc.Reasons)
+	}
+}

@@ -109,6 +109,9 @@ type cycleInfo struct {
 	// interruptedAt is the length whose search Ctrl-C cut short (0 when
 	// none was): only the shorter lengths are expanded.
 	interruptedAt int
+	// short is true when the search found fewer cycles at some length
+	// than the symbolic dynamics predicts (cycles.SearchShort).
+	short bool
 }
 
 func parseExpansion(name string) (cycles.Function, error) {
@@ -223,6 +226,7 @@ func obtainCycles(ctx context.Context, e *env, s *dynsys.System, opts expandOpti
 		res.Cycles = kept
 	}
 	info.status = "search " + res.Status.String()
+	info.short = res.Status == cycles.SearchShort
 	for _, c := range res.Counts {
 		if c.Note != "" {
 			info.notes = append(info.notes, fmt.Sprintf("length %d: %s", c.Length, c.Note))
