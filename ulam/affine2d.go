@@ -50,61 +50,47 @@ const affineBend = 0.25
 func assembleAffine2D(sys *dynsys.System, g Grid, wt weight) (*Matrix, error) {
 	n := g.Cells()
 	blocks := (n + sampledCells - 1) / sampledCells
-	type block struct {
-		rowLen []int
-		col    []int
-		val    []float64
-		deriv  []float64
-	}
-	out := make([]block, blocks)
+	m := &Matrix{Grid: g, GridCells: n, RowPtr: make([]int, n+1), Cells: make([]int, n)}
 	workers := make([]*affineAssembler, runtime.GOMAXPROCS(0))
-	forEachBlock(blocks, func(worker, b int) {
-		a := workers[worker]
-		if a == nil {
-			a = newAffineAssembler(sys, g, wt)
-			workers[worker] = a
-		}
-		c0, c1 := b*sampledCells, min((b+1)*sampledCells, n)
-		// A cell's image typically meets a few cells.
-		want := 4 * (c1 - c0)
-		o := block{rowLen: make([]int, 0, c1-c0), col: make([]int, 0, want), val: make([]float64, 0, want)}
-		if wt.deriv {
-			o.deriv = make([]float64, 0, want)
-		}
-		for c := c0; c < c1; c += affineChunk {
-			a.chunk(c, min(c+affineChunk, c1), func(t []int, v, dv []float64) {
-				o.rowLen = append(o.rowLen, len(t))
-				o.col = append(o.col, t...)
-				o.val = append(o.val, v...)
-				if wt.deriv {
-					o.deriv = append(o.deriv, dv...)
-				}
-			})
-		}
-		out[b] = o
+	// Two passes, as assembleSampled makes, so that the only large
+	// allocations are the CSR arrays: the first stores each row's length in
+	// RowPtr[c+1], the second writes the rows where RowPtr then says.
+	run := func(emit func(c int, targets []int, val, deriv []float64)) {
+		forEachBlock(blocks, func(worker, b int) {
+			a := workers[worker]
+			if a == nil {
+				a = newAffineAssembler(sys, g, wt)
+				workers[worker] = a
+			}
+			c0, c1 := b*sampledCells, min((b+1)*sampledCells, n)
+			for c := c0; c < c1; c += affineChunk {
+				a.chunk(c, min(c+affineChunk, c1), emit)
+			}
+		})
+	}
+	run(func(c int, targets []int, _, _ []float64) {
+		m.RowPtr[c+1] = len(targets)
 	})
-	// Join the blocks in order into arrays of the final size.
-	nnz := 0
-	for _, o := range out {
-		nnz += len(o.col)
+	for c := range n {
+		m.RowPtr[c+1] += m.RowPtr[c]
+		m.Cells[c] = c
 	}
-	m := &Matrix{Grid: g, GridCells: n, RowPtr: make([]int, n+1), Cells: make([]int, n),
-		Col: make([]int, 0, nnz), Val: make([]float64, 0, nnz)}
+	nnz := m.RowPtr[n]
+	m.Col, m.Val = make([]int, nnz), make([]float64, nnz)
 	if wt.deriv {
-		m.Derivative = make([]float64, 0, nnz)
+		m.Derivative = make([]float64, nnz)
 	}
-	row := 0
-	for b, o := range out {
-		for _, l := range o.rowLen {
-			m.Cells[row] = row
-			m.RowPtr[row+1] = m.RowPtr[row] + l
-			row++
+	run(func(c int, targets []int, val, deriv []float64) {
+		at := m.RowPtr[c]
+		if len(targets) != m.RowPtr[c+1]-at {
+			panic("ulam: the two passes of the 2D assembly disagree")
 		}
-		m.Col = append(m.Col, o.col...)
-		m.Val = append(m.Val, o.val...)
-		m.Derivative = append(m.Derivative, o.deriv...)
-		out[b] = block{}
-	}
+		copy(m.Col[at:], targets)
+		copy(m.Val[at:], val)
+		if m.Derivative != nil {
+			copy(m.Derivative[at:], deriv)
+		}
+	})
 	return m, nil
 }
 
@@ -156,8 +142,8 @@ func newAffineAssembler(sys *dynsys.System, g Grid, wt weight) *affineAssembler 
 }
 
 // chunk assembles the rows of the cells c0 … c1−1 and hands each, sorted
-// by target, to emit (whose slices are reused afterwards).
-func (a *affineAssembler) chunk(c0, c1 int, emit func(targets []int, val, deriv []float64)) {
+// by target, to emit with its cell (the slices are reused afterwards).
+func (a *affineAssembler) chunk(c0, c1 int, emit func(c int, targets []int, val, deriv []float64)) {
 	g := a.g
 	m1 := g.Shape[1]
 	// The 3×3 lattice of each cell: corners, edge midpoints, centre.
@@ -180,8 +166,32 @@ func (a *affineAssembler) chunk(c0, c1 int, emit func(targets []int, val, deriv 
 	a.sys.MapBatch(ys, xs)
 	var order, targets []int
 	var val, deriv []float64
+	lo0, hi0, lo1, hi1 := g.Lo[0], g.Hi[0], g.Lo[1], g.Hi[1]
 	for c := c0; c < c1; c++ {
 		base := (c - c0) * 18
+		// All nine images beyond one side of the box: both triangles
+		// escape whole (what straddles would find for each), so the row
+		// is empty; most cells of an open map's box are such.
+		var left, right, below, above int
+		for q := base; q < base+18; q += 2 {
+			x, y := ys[q], ys[q+1]
+			if x <= lo0 {
+				left++
+			}
+			if x >= hi0 {
+				right++
+			}
+			if y <= lo1 {
+				below++
+			}
+			if y >= hi1 {
+				above++
+			}
+		}
+		if left == 9 || right == 9 || below == 9 || above == 9 {
+			emit(c, nil, nil, nil)
+			continue
+		}
 		var lat [9]corner
 		for k := range lat {
 			q := base + 2*k
@@ -202,7 +212,7 @@ func (a *affineAssembler) chunk(c0, c1 int, emit func(targets []int, val, deriv 
 			val = append(val, a.w[k])
 			deriv = append(deriv, a.aw[k])
 		}
-		emit(targets, val, deriv)
+		emit(c, targets, val, deriv)
 	}
 }
 
@@ -344,7 +354,7 @@ func (a *affineAssembler) clip(v [3]corner, area float64) {
 	inBox := 0.0
 	tri := polygon{n: 3}
 	for k := range 3 {
-		tri.x[k], tri.y[k] = v[k].f.x, v[k].f.y
+		tri.c[0][k], tri.c[1][k] = v[k].f.x, v[k].f.y
 	}
 	for i := lo0; i <= hi0; i++ {
 		col := &a.poly[0]
@@ -400,10 +410,11 @@ func (a *affineAssembler) add(cell int, w, aw float64) {
 }
 
 // polygon is a convex polygon of at most 7 corners: a triangle clipped by
-// the four sides of a cell.
+// the four sides of a cell. c[0] holds the first coordinates, c[1] the
+// second.
 type polygon struct {
-	x, y [8]float64
-	n    int
+	c [2][8]float64
+	n int
 }
 
 // clip writes into dst the part of the polygon with lo ≤ coordinate axis ≤
@@ -423,31 +434,20 @@ func (p *polygon) half(dst *polygon, axis int, at, sign float64) {
 	if p.n == 0 {
 		return
 	}
-	coord := func(k int) float64 {
-		if axis == 0 {
-			return sign * (p.x[k] - at)
-		}
-		return sign * (p.y[k] - at)
-	}
+	u, v := &p.c[axis], &p.c[1-axis]
+	du, dv := &dst.c[axis], &dst.c[1-axis]
 	prev := p.n - 1
-	dp := coord(prev)
+	dp := sign * (u[prev] - at)
 	for k := range p.n {
-		dk := coord(k)
+		dk := sign * (u[k] - at)
 		if (dk >= 0) != (dp >= 0) {
 			// The side crosses the line: add the crossing, exactly on it.
 			t := dp / (dp - dk)
-			x := p.x[prev] + t*(p.x[k]-p.x[prev])
-			y := p.y[prev] + t*(p.y[k]-p.y[prev])
-			if axis == 0 {
-				x = at
-			} else {
-				y = at
-			}
-			dst.x[dst.n], dst.y[dst.n] = x, y
+			du[dst.n], dv[dst.n] = at, v[prev]+t*(v[k]-v[prev])
 			dst.n++
 		}
 		if dk >= 0 {
-			dst.x[dst.n], dst.y[dst.n] = p.x[k], p.y[k]
+			du[dst.n], dv[dst.n] = u[k], v[k]
 			dst.n++
 		}
 		prev, dp = k, dk
@@ -456,9 +456,10 @@ func (p *polygon) half(dst *polygon, axis int, at, sign float64) {
 
 // yRange returns the smallest and largest second coordinate.
 func (p *polygon) yRange() (lo, hi float64) {
-	lo, hi = p.y[0], p.y[0]
+	y := &p.c[1]
+	lo, hi = y[0], y[0]
 	for k := 1; k < p.n; k++ {
-		lo, hi = min(lo, p.y[k]), max(hi, p.y[k])
+		lo, hi = min(lo, y[k]), max(hi, y[k])
 	}
 	return lo, hi
 }
@@ -466,11 +467,12 @@ func (p *polygon) yRange() (lo, hi float64) {
 // moments returns the area and the centroid, by the shoelace formulas
 // about the first corner.
 func (p *polygon) moments() (area, cx, cy float64) {
-	x0, y0 := p.x[0], p.y[0]
+	x, y := &p.c[0], &p.c[1]
+	x0, y0 := x[0], y[0]
 	var a2, sx, sy float64
 	for k := 1; k+1 < p.n; k++ {
-		ax, ay := p.x[k]-x0, p.y[k]-y0
-		bx, by := p.x[k+1]-x0, p.y[k+1]-y0
+		ax, ay := x[k]-x0, y[k]-y0
+		bx, by := x[k+1]-x0, y[k+1]-y0
 		cr := ax*by - bx*ay
 		a2 += cr
 		sx += cr * (ax + bx)
