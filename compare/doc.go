@@ -50,6 +50,11 @@
 // step, |T(δ) − T(0)| with T(δ) = Σ_k d̂_k e^{kδ}. For a geometric sequence
 // the fit is exact and the tail d q/(1 − q) is Aitken's Δ² extrapolation
 // (A. C. Aitken, Proc. R. Soc. Edinburgh 46 (1926) 289–305, from memory).
+// A slowed trend that diverges, or rises above the last difference before
+// it falls, predicts no tail: the status is then Irregular with the spread
+// of the last estimates as the error. With Settings.NonMonotone (cycle
+// expansions of maps of dimension d ≥ 2, whose steps may grow before they
+// shrink) the error is at least TailFactor times the last difference.
 //
 // CyclesWithFloors takes the round-off floor of every estimate as well, as
 // the expansion computes it from the rounding of its coefficients. The
