@@ -9,9 +9,14 @@ import (
 )
 
 // affineMaxDepth is how many times a triangle is cut into four when the
-// map is not close to affine on it (a jump, strong curvature);
-// beyond that, the image of its centroid takes the whole triangle.
-const affineMaxDepth = 10
+// map is not close to affine on it (a jump, strong curvature); beyond
+// that, the image of its centroid takes the whole triangle. A line across
+// a cell meets at most 4·2^D of its triangles at depth D, of area 4^−D/2
+// each: at most 2^(1−D) of the cell is misplaced, 2^−7 for D = 8, in rows
+// that are a fraction of order h of all when the jumps lie on curves. Each
+// level doubles the work along a jump (the cat map's 2^16 cells: 1.7 s at
+// D = 8, 4.1 s at D = 10).
+const affineMaxDepth = 8
 
 // affineChunk is the number of cells whose lattice points are mapped in
 // one batch.

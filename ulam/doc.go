@@ -44,7 +44,8 @@
 // the grid, so the entries are exact for piecewise-affine maps and have
 // errors of order h in the cell width h for smooth ones; triangles on which
 // the map bends by more than a quarter of a cell (a jump) are cut into four
-// first, up to ten times. With
+// first, up to eight times (a row across a jump is then off by at most
+// 2^−7 of its mass, and such rows are a fraction of order h of all). With
 // Settings.Points > 0, and in d ≥ 3, a map is assembled from a tensor grid
 // of test points per cell (the midpoint rule for the same integral), their
 // images located by index arithmetic: faster, but each entry then carries a
