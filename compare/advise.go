@@ -39,13 +39,19 @@ const DefaultTolerance = 1e-8
 // order p: N = N_last (ε/tol)^(1/p). When the Ulam estimates are at their
 // round-off floor (exact up to rounding), it is the first partition on the
 // floor if the floor's error is below tol, +Inf if not.
-func Advise(cells []int, ulamValues []float64, orders []int, cycleValues, cycleFloors []float64, tol float64) Advice {
+//
+// s holds the settings of both analyses (nil: the defaults), as the caller
+// used them for its estimates. With s.NonMonotone no length is predicted
+// past the data: steps that may grow before they shrink cannot be
+// extrapolated.
+func Advise(cells []int, ulamValues []float64, orders []int, cycleValues, cycleFloors []float64, tol float64, s *Settings) Advice {
 	if !(tol > 0) {
 		tol = DefaultTolerance
 	}
 	var a Advice
-	cyc := CyclesWithFloors(orders, cycleValues, cycleFloors, nil)
-	ul := Ulam(cells, ulamValues, nil)
+	cyc := CyclesWithFloors(orders, cycleValues, cycleFloors, s)
+	ul := Ulam(cells, ulamValues, s)
+	nonMonotone := s != nil && s.NonMonotone
 	if cycleFloors != nil {
 		if idx, j := floorCut(cycleValues, cycleFloors); j >= 0 {
 			orders, cycleValues = orders[:idx[j]+1], cycleValues[:idx[j]+1]
@@ -62,7 +68,7 @@ func Advise(cells []int, ulamValues []float64, orders []int, cycleValues, cycleF
 		}
 	}
 	if a.CycleLength == 0 {
-		if n, ok := predictLength(orders, cycleValues, cyc, tol); ok {
+		if n, ok := predictLength(orders, cycleValues, cyc, tol); ok && !nonMonotone {
 			a.CycleLength = n
 			a.Notes = append(a.Notes, fmt.Sprintf("cycles: no computed length reaches %.3g; the fitted decay predicts length %d (a prediction past the data)", tol, n))
 		} else {

@@ -117,7 +117,7 @@ func TestAdvise(t *testing.T) {
 	cells := doublingCells(1 << 20)
 	ulam := sample(cells, func(n float64) float64 { return limit + 0.7/n })
 	orders := lengths(12)
-	a := Advise(cells, ulam, orders, sample(orders, gauss), nil, tol)
+	a := Advise(cells, ulam, orders, sample(orders, gauss), nil, tol, nil)
 	if a.CycleLength != want {
 		t.Errorf("cycle length %d, want %d (%q)", a.CycleLength, want, a.Notes)
 	}
@@ -131,7 +131,7 @@ func TestAdvise(t *testing.T) {
 	// The predicted remaining tail after n, times TailFactor 3, must fall
 	// below tol: 3 × 1.0e-9 at n = 10 does, 3 × 4.6e-8 at 9 does not.
 	short := lengths(8)
-	a = Advise(cells, ulam, short, sample(short, gauss), nil, tol)
+	a = Advise(cells, ulam, short, sample(short, gauss), nil, tol, nil)
 	if a.CycleLength != want || !strings.Contains(strings.Join(a.Notes, " "), "prediction") {
 		t.Errorf("predicted cycle length %d, want %d (%q)", a.CycleLength, want, a.Notes)
 	}
@@ -140,18 +140,18 @@ func TestAdvise(t *testing.T) {
 	// estimates are on their floor from the first partition, which is
 	// the one advised; a tolerance below the floor's error gets none.
 	exact := sample(cells, func(n float64) float64 { return limit + 1e-16*math.Sin(n) })
-	a = Advise(cells, exact, orders, sample(orders, gauss), nil, tol)
+	a = Advise(cells, exact, orders, sample(orders, gauss), nil, tol, nil)
 	if a.CellsNeeded != float64(cells[0]) {
 		t.Errorf("Ulam at its floor: cells needed %g, want %d (%q)", a.CellsNeeded, cells[0], a.Notes)
 	}
-	a = Advise(cells, exact, orders, sample(orders, gauss), nil, 1e-18)
+	a = Advise(cells, exact, orders, sample(orders, gauss), nil, 1e-18, nil)
 	if !math.IsInf(a.CellsNeeded, 1) {
 		t.Errorf("Ulam at its floor, tolerance 1e-18: cells needed %g, want +Inf (%q)", a.CellsNeeded, a.Notes)
 	}
 
 	// Order 2: N = sqrt(C/tol).
 	ulam2 := sample(cells, func(n float64) float64 { return limit + 3/(n*n) })
-	a = Advise(cells, ulam2, orders, sample(orders, gauss), nil, 0)
+	a = Advise(cells, ulam2, orders, sample(orders, gauss), nil, 0, nil)
 	if !scalar.EqualWithinAbsOrRel(a.CellsNeeded, math.Sqrt(3/DefaultTolerance), 0, 1e-3) {
 		t.Errorf("order 2: cells needed %.6g, want %.6g", a.CellsNeeded, math.Sqrt(3/DefaultTolerance))
 	}

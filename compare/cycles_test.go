@@ -289,3 +289,18 @@ func TestCyclesTwoDimensional(t *testing.T) {
 		}
 	}
 }
+
+// TestAdviseNonMonotone: Advise judges the lengths with the error of the
+// analysis its caller made. On the skew-cantor sequence to length 8 the
+// default bar is 6.8e-7, so length 8 meets 2e-6; with NonMonotone (check's
+// setting for d ≥ 2) the bar is 7.2e-6 and no length does, and none may be
+// predicted past the data.
+func TestAdviseNonMonotone(t *testing.T) {
+	orders := lengths(len(skewCantorExpansion))
+	if a := Advise(nil, nil, orders, skewCantorExpansion, nil, 2e-6, nil); a.CycleLength != 8 {
+		t.Errorf("default settings: length %d, want 8 (%v)", a.CycleLength, a.Notes)
+	}
+	if a := Advise(nil, nil, orders, skewCantorExpansion, nil, 2e-6, &Settings{NonMonotone: true}); a.CycleLength != 0 {
+		t.Errorf("NonMonotone: length %d, want none (%v)", a.CycleLength, a.Notes)
+	}
+}

@@ -397,7 +397,8 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 
 	cells, ulamValues := r.ulamValues()
 	orders, cycleValues, cycleFloors := r.cycleValues()
-	r.cyclesEst = compare.CyclesWithFloors(orders, cycleValues, cycleFloors, &compare.Settings{NonMonotone: s.Dim() >= 2})
+	analysis := &compare.Settings{NonMonotone: s.Dim() >= 2}
+	r.cyclesEst = compare.CyclesWithFloors(orders, cycleValues, cycleFloors, analysis)
 	// Cycle expansions of maps of dimension d ≥ 2 converge with
 	// irregular signs and non-monotone steps by nature (the catalog's
 	// horseshoe and skew-cantor): there, as for plain Ulam, an irregular
@@ -442,7 +443,7 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 			r.galerkinComparison.Unrefuted(jumpModes("piecewise polynomials on cells"))
 		}
 	}
-	r.advice = compare.Advise(cells, ulamValues, orders, cycleValues, cycleFloors, opts.tol)
+	r.advice = compare.Advise(cells, ulamValues, orders, cycleValues, cycleFloors, opts.tol, analysis)
 	return r, nil
 }
 
@@ -513,7 +514,7 @@ func (r *checkResult) compareWithoutCycles() {
 	r.comparison = compare.ComparePaths(compare.Path{Name: "ulam", Estimate: r.ulamEst, Erratic: true},
 		compare.Path{Name: "galerkin", Estimate: r.galerkinEst})
 	cells, ulamValues := r.ulamValues()
-	advice := compare.Advise(cells, ulamValues, nil, nil, nil, r.opts.tol)
+	advice := compare.Advise(cells, ulamValues, nil, nil, nil, r.opts.tol, nil)
 	r.advice = compare.Advice{CellsNeeded: advice.CellsNeeded}
 	for _, n := range advice.Notes {
 		if !strings.HasPrefix(n, "cycles:") {
