@@ -1,6 +1,7 @@
 package ulam
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -72,6 +73,17 @@ type Result struct {
 // Jacobian being absorbed by the change of variables, DESIGN.md section 3);
 // decay rate −ln |λ_1/λ_0|.
 func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *SolveSettings) (Result, error) {
+	return ComputeContext(context.Background(), sys, q, settings, solve)
+}
+
+// ComputeContext is Compute, stopping with the context's error when ctx is
+// cancelled: it looks between its steps (assembly, eigen-solve,
+// eigenvectors, each eigen-solve of the dimension's root search), so it
+// returns within one step.
+func ComputeContext(ctx context.Context, sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *SolveSettings) (Result, error) {
+	if err := stopped(ctx); err != nil {
+		return Result{Quantity: q}, err
+	}
 	set := settings.withDefaults()
 	var sv SolveSettings
 	if solve != nil {
@@ -108,7 +120,7 @@ func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *S
 		if sys.Dim() != 1 {
 			return res, fmt.Errorf("ulam: the dimension is computed for 1D maps only (%s has dimension %d)", sys.Name, sys.Dim())
 		}
-		return computeDimension(sys, set, sv, res)
+		return computeDimension(ctx, sys, set, sv, res)
 	default:
 		return res, fmt.Errorf("ulam: unknown quantity %q", q)
 	}
@@ -118,11 +130,19 @@ func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *S
 	}
 	res.Matrix = m
 	res.Assemblies = 1
+	if err := stopped(ctx); err != nil {
+		return res, err
+	}
 	if err := res.eigen(m, sv); err != nil {
 		return res, err
 	}
 	lambda0 := res.Eigenvalues[0]
 	res.Value = SpectrumValue(q, res.Eigenvalues)
+	if needPair {
+		if err := stopped(ctx); err != nil {
+			return res, err
+		}
+	}
 	if needPair {
 		pairQuantity := q == dynsys.Mean || q == dynsys.Lyapunov
 		if err := res.leading(m, sv); err != nil {
@@ -144,6 +164,16 @@ func Compute(sys *dynsys.System, q dynsys.Quantity, settings *Settings, solve *S
 		return res, fmt.Errorf("ulam: %s: leading eigenvalue %v: no mass survives on this grid", sys.Name, real(lambda0))
 	}
 	return res, nil
+}
+
+// stopped returns the context's error once it is done, without waiting.
+func stopped(ctx context.Context) error {
+	select {
+	case <-ctx.Done():
+		return ctx.Err()
+	default:
+		return nil
+	}
 }
 
 func (sv SolveSettings) krylov(k int) *krylov.Settings {
@@ -223,10 +253,13 @@ func (res *Result) addStats(s krylov.Stats, status krylov.Status) {
 
 // computeDimension finds the root s of ln λ_0(s) = 0 for the weight
 // |f'|^(1−s) by Brent's method on [0, 1].
-func computeDimension(sys *dynsys.System, set Settings, sv SolveSettings, res Result) (Result, error) {
+func computeDimension(ctx context.Context, sys *dynsys.System, set Settings, sv SolveSettings, res Result) (Result, error) {
 	set.Observable, set.Derivative = LogExpansion, false
 	var last Result
 	value, err := BowenRoot(func(s float64) (float64, error) {
+		if err := stopped(ctx); err != nil {
+			return 0, err
+		}
 		set.Beta = 1 - s
 		m, err := Assemble(sys, &set)
 		res.Assemblies++

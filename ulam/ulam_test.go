@@ -3,6 +3,7 @@ package ulam
 import (
 	"bufio"
 	"bytes"
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -742,5 +743,55 @@ func TestMatrixEigenvalues(t *testing.T) {
 		if got[k] != three.Eigenvalues[k] {
 			t.Errorf("λ_%d = %v, Compute gives %v", k, got[k], three.Eigenvalues[k])
 		}
+	}
+}
+
+// countdown is a context that is done from its n-th call of Done on: a
+// cancellation at a known step.
+type countdown struct {
+	context.Context
+	n      int
+	closed chan struct{}
+}
+
+func newCountdown(n int) *countdown {
+	c := &countdown{Context: context.Background(), n: n, closed: make(chan struct{})}
+	close(c.closed)
+	return c
+}
+
+func (c *countdown) Done() <-chan struct{} {
+	c.n--
+	if c.n <= 0 {
+		return c.closed
+	}
+	return nil // never ready
+}
+
+func (c *countdown) Err() error {
+	if c.n <= 0 {
+		return context.Canceled
+	}
+	return nil
+}
+
+// TestComputeContextStops: a cancelled context stops ComputeContext before
+// any work, and a cancellation during the dimension's root search at the
+// next eigen-solve (the search needs about ten).
+func TestComputeContextStops(t *testing.T) {
+	s := open(t, "cantor")
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if r, err := ComputeContext(ctx, s, dynsys.Dimension, &Settings{Cells: 4096}, nil); !errors.Is(err, context.Canceled) || r.Assemblies != 0 {
+		t.Errorf("cancelled before: %d assemblies, error %v", r.Assemblies, err)
+	}
+	// Done is asked on entry and before each assembly of the search.
+	r, err := ComputeContext(newCountdown(3), s, dynsys.Dimension, &Settings{Cells: 4096}, nil)
+	if !errors.Is(err, context.Canceled) || r.Assemblies > 1 {
+		t.Errorf("cancelled during the search: %d assemblies, error %v", r.Assemblies, err)
+	}
+	full, err := Compute(s, dynsys.Dimension, &Settings{Cells: 4096}, nil)
+	if err != nil || full.Assemblies < 3 {
+		t.Errorf("uncancelled: %d assemblies, error %v (the test needs a search of several steps)", full.Assemblies, err)
 	}
 }

@@ -241,9 +241,10 @@ func interruptContext() (ctx context.Context, stop context.CancelFunc) {
 var errStopped = errors.New("stopped by Ctrl-C")
 
 // whileRunning runs work and returns its results, or errStopped as soon as
-// ctx is cancelled. The work is then abandoned: it goes on in the
-// background until the process, which is about to report what it finished
-// and exit, ends. For computations that take no context (a Ulam grid).
+// ctx is cancelled. The work is then abandoned: work that watches ctx too
+// (a Ulam grid, ulam.ComputeContext) stops at its next step, other work (a
+// Galerkin size) goes on in the background until the process, which is
+// about to report what it finished and exit, ends.
 func whileRunning[T any](ctx context.Context, work func() (T, error)) (T, error) {
 	var zero T
 	if ctx.Err() != nil {

@@ -324,7 +324,7 @@ func runCheck(ctx context.Context, e *env, s *dynsys.System, opts checkOptions) 
 		}
 		t0 := time.Now()
 		res, err := whileRunning(ctx, func() (ulam.Result, error) {
-			return ulam.Compute(s, opts.quantity, &ulam.Settings{Cells: run.cells, Shape: run.shape, Points: opts.points, Beta: opts.beta}, solve)
+			return ulam.ComputeContext(ctx, s, opts.quantity, &ulam.Settings{Cells: run.cells, Shape: run.shape, Points: opts.points, Beta: opts.beta}, solve)
 		})
 		if errors.Is(err, errStopped) {
 			r.interrupted = "during the Ulam run on " + run.label(s)

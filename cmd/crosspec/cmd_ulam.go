@@ -148,7 +148,7 @@ transfer operator acting on densities is its transpose.`,
 					fmt.Fprintf(e.stderr, "%s: grid %s ...", e.cmd, r.label(s))
 				}
 				start := time.Now()
-				res, err := whileRunning(ctx, func() (ulam.Result, error) { return ulam.Compute(s, q, set, sv) })
+				res, err := whileRunning(ctx, func() (ulam.Result, error) { return ulam.ComputeContext(ctx, s, q, set, sv) })
 				elapsed := time.Since(start).Seconds()
 				if progress {
 					fmt.Fprintf(e.stderr, " %.3g s\n", elapsed)
