@@ -37,6 +37,7 @@ type calibrationCase struct {
 // subject of a known value here; the Galerkin bases are for 1D maps.
 var calibrationCases = []calibrationCase{
 	{system: "skew-tent-repeller", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 10, galerkin: true, chebyshev: true},
+	{system: "skew-tent-repeller", quantity: dynsys.Mean, ulam: true, cycles: true, maxLen: 10, galerkin: true, chebyshev: true},
 	{system: "cantor", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 10, galerkin: true, chebyshev: true},
 	{system: "cantor", quantity: dynsys.Dimension, ulam: true, cycles: true, maxLen: 10, galerkin: true, chebyshev: true},
 	{system: "doubling", quantity: dynsys.Lyapunov, ulam: true, cycles: true, maxLen: 10, galerkin: true, chebyshev: true},
@@ -51,6 +52,12 @@ var calibrationCases = []calibrationCase{
 	// A 2D cycle expansion with a known value, at check's default length
 	// for d ≥ 2.
 	{system: "skew-cantor", quantity: dynsys.EscapeRate, ulam: true, cycles: true, maxLen: 8},
+	// The weighted 2D assembly (w and a·w interpolated on triangles). The
+	// cycle bar of this mean, 9.8e-6 at length 8 (three times the last
+	// step, compare.Settings.NonMonotone), contains 31/30 but is 120 times
+	// the error 8.2e-8, beyond MaxOverstatement: a known limit of that
+	// rule (README), so the cycles are not calibrated here.
+	{system: "skew-cantor", quantity: dynsys.Mean, ulam: true},
 	// Decay rates: λ_1 on analytic functions, which plain Ulam and the
 	// cells basis do not estimate (they see the operator on functions
 	// with jumps; see check's note).
