@@ -171,29 +171,17 @@ func (a *affineAssembler) chunk(c0, c1 int, emit func(c int, targets []int, val,
 	a.sys.MapBatch(ys, xs)
 	var order, targets []int
 	var val, deriv []float64
-	lo0, hi0, lo1, hi1 := g.Lo[0], g.Hi[0], g.Lo[1], g.Hi[1]
+	lo, hi := vec2{g.Lo[0], g.Lo[1]}, vec2{g.Hi[0], g.Hi[1]}
 	for c := c0; c < c1; c++ {
 		base := (c - c0) * 18
 		// All nine images beyond one side of the box: both triangles
 		// escape whole (what straddles would find for each), so the row
 		// is empty; most cells of an open map's box are such.
-		var left, right, below, above int
-		for q := base; q < base+18; q += 2 {
-			x, y := ys[q], ys[q+1]
-			if x <= lo0 {
-				left++
-			}
-			if x >= hi0 {
-				right++
-			}
-			if y <= lo1 {
-				below++
-			}
-			if y >= hi1 {
-				above++
-			}
+		var img [9]vec2
+		for k := range img {
+			img[k] = vec2{ys[base+2*k], ys[base+2*k+1]}
 		}
-		if left == 9 || right == 9 || below == 9 || above == 9 {
+		if beyondOneSide(img[:], lo, hi) {
 			emit(c, nil, nil, nil)
 			continue
 		}
@@ -290,28 +278,36 @@ func (a *affineAssembler) triangle(v, mid [3]corner, area float64, depth int) {
 }
 
 // straddles reports whether the images of the corners and midpoints do not
-// all lie beyond one side of the box: the image may then cross it. (An
-// image that is not finite lies beyond no side.)
+// all lie beyond one side of the box: the image may then cross it.
 func (a *affineAssembler) straddles(v, mid [3]corner) bool {
-	m0, m1 := float64(a.g.Shape[0]), float64(a.g.Shape[1])
-	var left, right, below, above int
+	var pts [6]vec2
 	for k := range 3 {
-		for _, f := range [2]vec2{v[k].f, mid[k].f} {
-			if f.x <= 0 {
-				left++
-			}
-			if f.x >= m0 {
-				right++
-			}
-			if f.y <= 0 {
-				below++
-			}
-			if f.y >= m1 {
-				above++
-			}
+		pts[2*k], pts[2*k+1] = v[k].f, mid[k].f
+	}
+	return !beyondOneSide(pts[:], vec2{}, vec2{float64(a.g.Shape[0]), float64(a.g.Shape[1])})
+}
+
+// beyondOneSide reports whether every point lies on or beyond one and the
+// same side of the box [lo, hi]. (A point that is not finite lies beyond
+// no side.)
+func beyondOneSide(pts []vec2, lo, hi vec2) bool {
+	var left, right, below, above int
+	for _, f := range pts {
+		if f.x <= lo.x {
+			left++
+		}
+		if f.x >= hi.x {
+			right++
+		}
+		if f.y <= lo.y {
+			below++
+		}
+		if f.y >= hi.y {
+			above++
 		}
 	}
-	return left < 6 && right < 6 && below < 6 && above < 6
+	n := len(pts)
+	return left == n || right == n || below == n || above == n
 }
 
 // split cuts the triangle into four at its edges' midpoints.

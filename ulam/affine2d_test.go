@@ -40,7 +40,7 @@ domain = [[0.0, 1.0]]
 func parseProduct(t *testing.T) (prod, fx, gy *dynsys.System) {
 	t.Helper()
 	var sys [3]*dynsys.System
-	for k, text := range splitDocs(productSystems) {
+	for k, text := range strings.Split(productSystems, "---\n") {
 		s, err := dynsys.Parse(fmt.Sprintf("product%d.toml", k), []byte(text), nil)
 		if err != nil {
 			t.Fatal(err)
@@ -48,18 +48,6 @@ func parseProduct(t *testing.T) (prod, fx, gy *dynsys.System) {
 		sys[k] = s
 	}
 	return sys[0], sys[1], sys[2]
-}
-
-func splitDocs(s string) []string {
-	var out []string
-	start := 0
-	for k := 0; k+4 <= len(s); k++ {
-		if s[k:k+4] == "---\n" {
-			out = append(out, s[start:k])
-			start = k + 4
-		}
-	}
-	return append(out, s[start:])
 }
 
 // denseEntries returns the entries vals (Val or Derivative) of the matrix
@@ -170,19 +158,27 @@ func TestAffine2DProduct(t *testing.T) {
 // map every piece stays in the box. The grid 37×41 puts the jumps inside
 // cells (not on the midpoints of halved cells); 36×41 puts them on edges.
 func TestAffine2DJump(t *testing.T) {
-	parse := func(vars, maps string) *dynsys.System {
-		text := fmt.Sprintf("name = \"jump\"\ndescription = \"test\"\nvars = %s\nmap = %s\ndomain = [[0.0, 1.0], [0.0, 1.0]]\nclosed = true\n", vars, maps)
-		if vars == `["x"]` {
-			text = strings.Replace(text, ", [0.0, 1.0]]", "]", 1)
-		}
+	parse := func(text string) *dynsys.System {
 		s, err := dynsys.Parse("jump.toml", []byte(text), nil)
 		if err != nil {
 			t.Fatal(err)
 		}
 		return s
 	}
-	prod := parse(`["x", "y"]`, `["mod(3*x, 1)", "1 - abs(1 - 2*y)"]`)
-	fx := parse(`["x"]`, `["mod(3*x, 1)"]`)
+	prod := parse(`name = "jump"
+description = "test: 3x mod 1 times the tent map"
+vars = ["x", "y"]
+map = ["mod(3*x, 1)", "1 - abs(1 - 2*y)"]
+domain = [[0.0, 1.0], [0.0, 1.0]]
+closed = true
+`)
+	fx := parse(`name = "jump-x"
+description = "test: the x factor"
+vars = ["x"]
+map = ["mod(3*x, 1)"]
+domain = [[0.0, 1.0]]
+closed = true
+`)
 	gy := open(t, "tent")
 	for _, shape := range [][2]int{{36, 41}, {37, 41}} {
 		m, err := Assemble(prod, &Settings{Shape: shape[:], Restrict: RestrictNone})
